@@ -1,0 +1,37 @@
+// Options shared by the verbs that read samples, declared once.
+#pragma once
+
+#include <CLI/CLI.hpp>
+
+#include <string>
+
+#include "sillstone/samples.hpp"
+
+namespace sillstone::cli {
+
+/// The common sample options of every verb that reads samples, bound to
+/// strings first so that enumerations are checked by names.cpp (one spelling).
+struct SampleArgs {
+  SampleOptions options;
+  std::string below_detection = "half";
+  std::string duplicates = "average";
+};
+
+/// Declares SAMPLES, --layer, --value, --x/--y/--z, --where, --crs, --to-crs,
+/// --below-detection and --duplicates on `verb`.
+void add_sample_options(CLI::App& verb, SampleArgs& args);
+
+/// The SampleOptions after the enumerations were parsed (throws InputError).
+SampleOptions resolve(const SampleArgs& args);
+
+/// Output switches shared by the verbs that print results.
+struct OutputArgs {
+  bool json = false;
+  bool quiet = false;
+};
+void add_output_options(CLI::App& verb, OutputArgs& args);
+
+/// Prints each warning as one "warning: ..." line on stderr.
+void print_warnings(const std::vector<std::string>& warnings);
+
+}  // namespace sillstone::cli

@@ -1,0 +1,70 @@
+#include "sillstone/names.hpp"
+
+#include <array>
+#include <utility>
+
+#include "sillstone/error.hpp"
+#include "sillstone/samples.hpp"
+
+namespace sillstone {
+namespace detail {
+
+template <class Enum>
+struct NameTable;  // specialised below, once per enum
+
+template <>
+struct NameTable<BelowDetection> {
+  static constexpr std::array<std::pair<BelowDetection, std::string_view>, 4> entries{{
+      {BelowDetection::half, "half"},
+      {BelowDetection::limit, "limit"},
+      {BelowDetection::zero, "zero"},
+      {BelowDetection::drop, "drop"},
+  }};
+};
+
+template <>
+struct NameTable<DuplicatePolicy> {
+  static constexpr std::array<std::pair<DuplicatePolicy, std::string_view>, 3> entries{{
+      {DuplicatePolicy::average, "average"},
+      {DuplicatePolicy::first, "first"},
+      {DuplicatePolicy::error, "error"},
+  }};
+};
+
+}  // namespace detail
+
+template <class Enum>
+std::string_view name_of(Enum value) {
+  for (const auto& [e, name] : detail::NameTable<Enum>::entries)
+    if (e == value) return name;
+  return "?";  // unreachable for a valid enum value
+}
+
+template <class Enum>
+std::vector<std::string> names_of() {
+  std::vector<std::string> out;
+  for (const auto& entry : detail::NameTable<Enum>::entries) out.emplace_back(entry.second);
+  return out;
+}
+
+template <class Enum>
+Enum parse_name(std::string_view text, std::string_view what) {
+  for (const auto& [e, name] : detail::NameTable<Enum>::entries)
+    if (name == text) return e;
+  std::string choices;
+  for (const auto& name : names_of<Enum>()) choices += (choices.empty() ? "" : ", ") + name;
+  throw InputError(std::string(what), "'" + std::string(text) +
+                                          "' is not one of the accepted values (" + choices + ")");
+}
+
+#define SILLSTONE_NAMED_ENUM(E)                                   \
+  template std::string_view name_of<E>(E);                        \
+  template std::vector<std::string> names_of<E>();                \
+  template E parse_name<E>(std::string_view, std::string_view);
+
+SILLSTONE_NAMED_ENUM(BelowDetection)
+SILLSTONE_NAMED_ENUM(DuplicatePolicy)
+
+#undef SILLSTONE_NAMED_ENUM
+
+}  // namespace sillstone

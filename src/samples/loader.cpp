@@ -1,0 +1,484 @@
+// The sample reader: one OGR layer -> SampleSet.
+//
+// Order of work: open read-only, pick the layer, resolve the columns, apply
+// the attribute filter, settle the CRS, read every feature (parsing each cell
+// with parse_value so that errors name row and column), reproject, then
+// detect duplicate locations and apply the duplicate policy.
+#include <gdal_priv.h>
+#include <ogr_spatialref.h>
+#include <ogrsf_frmts.h>
+
+#include <algorithm>
+#include <cmath>
+#include <filesystem>
+#include <memory>
+#include <mutex>
+#include <numeric>
+
+#include "samples/csv_lines.hpp"
+#include "sillstone/error.hpp"
+#include "sillstone/names.hpp"
+#include "sillstone/samples.hpp"
+
+namespace sillstone {
+namespace {
+
+constexpr const char* kComponent = "samples";
+
+void register_gdal_once() {
+  static std::once_flag flag;
+  std::call_once(flag, [] { GDALAllRegister(); });
+}
+
+// GDAL reports trouble through a global error state; keep it off stderr and
+// quote it in our own messages instead.
+struct QuietGdalErrors {
+  QuietGdalErrors() {
+    CPLPushErrorHandler(CPLQuietErrorHandler);
+    CPLErrorReset();
+  }
+  ~QuietGdalErrors() { CPLPopErrorHandler(); }
+  QuietGdalErrors(const QuietGdalErrors&) = delete;
+  QuietGdalErrors& operator=(const QuietGdalErrors&) = delete;
+};
+
+std::string gdal_message() {
+  std::string msg = CPLGetLastErrorMsg();
+  return msg.empty() ? "" : " (" + msg + ")";
+}
+
+std::string list_fields(OGRFeatureDefn* defn) {
+  std::string out;
+  for (int i = 0; i < defn->GetFieldCount(); ++i)
+    out += (i ? ", " : "") + std::string(defn->GetFieldDefn(i)->GetNameRef());
+  return out;
+}
+
+// OGR lookups are case-insensitive; an exact match wins over a case-folded one.
+int find_field(OGRFeatureDefn* defn, const std::string& name, const std::string& file,
+               const std::string& option) {
+  for (int i = 0; i < defn->GetFieldCount(); ++i)
+    if (name == defn->GetFieldDefn(i)->GetNameRef()) return i;
+  const int i = defn->GetFieldIndex(name.c_str());
+  if (i < 0)
+    throw InputError(kComponent, InputLocation{file, "", name},
+                     "no such column (" + option + "); the columns are: " + list_fields(defn));
+  return i;
+}
+
+std::unique_ptr<OGRSpatialReference> make_srs(const std::string& text, const std::string& option) {
+  auto srs = std::make_unique<OGRSpatialReference>();
+  if (srs->SetFromUserInput(text.c_str()) != OGRERR_NONE)
+    throw InputError(kComponent, option + " '" + text + "' is not a CRS that GDAL/PROJ knows" +
+                                     gdal_message());
+  srs->SetAxisMappingStrategy(OAMS_TRADITIONAL_GIS_ORDER);
+  return srs;
+}
+
+std::string srs_authority(const OGRSpatialReference& srs) {
+  const char* name = srs.GetAuthorityName(nullptr);
+  const char* code = srs.GetAuthorityCode(nullptr);
+  if (name && code) return std::string(name) + ":" + code;
+  return "";
+}
+
+// How one row is named in messages, and which number identifies it.
+struct RowNamer {
+  bool csv = false;
+  std::vector<std::int64_t> lines;  // CSV record -> line
+  std::pair<std::string, std::int64_t> operator()(GIntBig fid) const {
+    if (csv) {
+      // OGR's CSV driver numbers records from 1, skipping blank lines.
+      if (fid >= 1 && static_cast<std::size_t>(fid) <= lines.size()) {
+        const std::int64_t line = lines[static_cast<std::size_t>(fid - 1)];
+        return {"line " + std::to_string(line), line};
+      }
+      return {"record " + std::to_string(fid), fid};
+    }
+    return {"feature " + std::to_string(fid), fid};
+  }
+};
+
+struct RawRow {
+  Point p;
+  std::string id;
+  std::int64_t number = 0;
+  std::vector<double> values;
+  std::vector<unsigned char> censored;
+};
+
+double read_coordinate(OGRFeature& f, int field, const InputLocation& where) {
+  if (!f.IsFieldSetAndNotNull(field)) return std::nan("");
+  const OGRFieldType type = f.GetFieldDefnRef(field)->GetType();
+  if (type == OFTReal || type == OFTInteger || type == OFTInteger64) {
+    const double v = f.GetFieldAsDouble(field);
+    if (!std::isfinite(v)) throw InputError(kComponent, where, "the coordinate is not finite");
+    return v;
+  }
+  const std::string text = f.GetFieldAsString(field);
+  const ParsedValue pv = parse_value(text);
+  if (pv.kind == ParsedValue::Kind::missing) return std::nan("");
+  if (pv.kind != ParsedValue::Kind::number)
+    throw InputError(kComponent, where, "cannot read '" + text + "' as a coordinate");
+  return pv.value;
+}
+
+}  // namespace
+
+bool SampleOptions::is_valid(std::string* why) const {
+  auto fail = [why](const std::string& text) {
+    if (why) *why = text;
+    return false;
+  };
+  if (path.empty()) return fail("no samples file was given");
+  if (values.empty()) return fail("no value column was given (--value COLUMN)");
+  for (const auto& v : values)
+    if (v.empty()) return fail("an empty value column name was given");
+  if (x.empty() != y.empty()) return fail("--x and --y go together");
+  if (!z.empty() && x.empty()) return fail("--z needs --x and --y");
+  return true;
+}
+
+SampleSet load_samples(const SampleOptions& options) {
+  std::string why;
+  if (!options.is_valid(&why)) throw InputError(kComponent, why);
+  register_gdal_once();
+  QuietGdalErrors quiet;
+
+  const std::string& file = options.path;
+  namespace fs = std::filesystem;
+  std::error_code ec;
+  const fs::file_status status = fs::status(file, ec);
+  if (!fs::exists(status)) throw InputError(kComponent, file + ": no such file");
+  if (fs::is_directory(status) && fs::path(file).extension() != ".gdb")
+    throw InputError(kComponent, file + ": is a folder, not a samples file");
+  if (fs::is_regular_file(status) && fs::file_size(file, ec) == 0)
+    throw InputError(kComponent, file + ": the file is empty");
+
+  std::unique_ptr<GDALDataset> ds(GDALDataset::Open(
+      file.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY, nullptr, nullptr, nullptr));
+  if (!ds)
+    throw InputError(kComponent, file + ": cannot be read as a vector data source" +
+                                     gdal_message());
+  const bool csv = EQUAL(ds->GetDriver()->GetDescription(), "CSV");
+
+  OGRLayer* layer = nullptr;
+  if (options.layer.empty()) {
+    if (ds->GetLayerCount() < 1) throw InputError(kComponent, file + ": holds no layer");
+    layer = ds->GetLayer(0);
+  } else {
+    layer = ds->GetLayerByName(options.layer.c_str());
+    if (!layer) {
+      std::string names;
+      for (int i = 0; i < ds->GetLayerCount(); ++i)
+        names += (i ? ", " : "") + std::string(ds->GetLayer(i)->GetName());
+      throw InputError(kComponent, file + ": no layer '" + options.layer +
+                                       "'; the layers are: " + names);
+    }
+  }
+  OGRFeatureDefn* defn = layer->GetLayerDefn();
+
+  std::vector<int> value_fields;
+  for (const auto& v : options.values) value_fields.push_back(find_field(defn, v, file, "--value"));
+  const bool from_fields = !options.x.empty();
+  int fx = -1, fy = -1, fz = -1;
+  if (from_fields) {
+    fx = find_field(defn, options.x, file, "--x");
+    fy = find_field(defn, options.y, file, "--y");
+  } else if (layer->GetGeomType() == wkbNone) {
+    throw InputError(kComponent, file + ": the layer has no geometry; name the coordinate "
+                                        "columns with --x and --y (columns: " +
+                                        list_fields(defn) + ")");
+  }
+  if (!options.z.empty()) fz = find_field(defn, options.z, file, "--z");
+
+  if (!options.where.empty() && layer->SetAttributeFilter(options.where.c_str()) != OGRERR_NONE)
+    throw InputError(kComponent, file + ": --where \"" + options.where +
+                                     "\" is not a valid attribute filter" + gdal_message());
+
+  // --- CRS ---------------------------------------------------------------------
+  std::unique_ptr<OGRSpatialReference> source_srs;
+  if (const OGRSpatialReference* s = from_fields ? nullptr : layer->GetSpatialRef()) {
+    source_srs.reset(s->Clone());
+    source_srs->SetAxisMappingStrategy(OAMS_TRADITIONAL_GIS_ORDER);
+  }
+  if (!options.crs.empty()) {
+    auto assigned = make_srs(options.crs, "--crs");
+    if (source_srs && !source_srs->IsSame(assigned.get()))
+      throw InputError(kComponent, file + ": the source already has a CRS (" +
+                                       std::string(source_srs->GetName()) +
+                                       "); --crs only assigns one to sources without a CRS, "
+                                       "use --to-crs to reproject");
+    source_srs = std::move(assigned);
+  }
+  std::unique_ptr<OGRSpatialReference> target_srs;
+  std::unique_ptr<OGRCoordinateTransformation> transform;
+  if (!options.to_crs.empty()) {
+    if (!source_srs)
+      throw InputError(kComponent, file + ": --to-crs needs the source's CRS; the source has "
+                                          "none, so give it with --crs");
+    target_srs = make_srs(options.to_crs, "--to-crs");
+    transform.reset(OGRCreateCoordinateTransformation(source_srs.get(), target_srs.get()));
+    if (!transform)
+      throw InputError(kComponent, "no coordinate transformation from " +
+                                       std::string(source_srs->GetName()) + " to " +
+                                       options.to_crs + gdal_message());
+  }
+  const OGRSpatialReference* analysis_srs = target_srs ? target_srs.get() : source_srs.get();
+  if (analysis_srs && analysis_srs->IsGeographic())
+    throw InputError(kComponent, file + ": coordinates are in a geographic CRS (" +
+                                     std::string(analysis_srs->GetName()) +
+                                     ", degrees); distances need a projected CRS: add "
+                                     "--to-crs EPSG:NNNN (e.g. the local UTM zone)");
+
+  // --- Rows ----------------------------------------------------------------------
+  RowNamer namer;
+  namer.csv = csv;
+  if (csv) namer.lines = detail::csv_record_lines(file);
+
+  SampleSet set;
+  set.source = file;
+  set.layer = layer->GetName();
+  set.dimension = fz >= 0 ? 3 : 2;
+  set.value_names = options.values;
+  set.below_detection = options.below_detection;
+  set.duplicates = options.duplicates;
+  LoadSummary& sum = set.summary;
+  const std::size_t nv = options.values.size();
+  sum.missing.assign(nv, 0);
+  sum.below_detection.assign(nv, 0);
+
+  std::vector<RawRow> rows;
+  layer->ResetReading();
+  for (auto& feature : *layer) {
+    ++sum.rows_read;
+    const auto [row_name, row_number] = namer(feature->GetFID());
+    RawRow row;
+    row.id = row_name;
+    row.number = row_number;
+    bool coordinate_missing = false;
+    if (from_fields) {
+      row.p.x = read_coordinate(*feature, fx, {file, row_name, options.x});
+      row.p.y = read_coordinate(*feature, fy, {file, row_name, options.y});
+      coordinate_missing = std::isnan(row.p.x) || std::isnan(row.p.y);
+    } else {
+      const OGRGeometry* g = feature->GetGeometryRef();
+      if (!g || g->IsEmpty()) {
+        coordinate_missing = true;
+      } else {
+        const OGRPoint* pt = nullptr;
+        const auto type = wkbFlatten(g->getGeometryType());
+        if (type == wkbPoint) {
+          pt = g->toPoint();
+        } else if (type == wkbMultiPoint && g->toMultiPoint()->getNumGeometries() == 1) {
+          pt = g->toMultiPoint()->getGeometryRef(0);
+        } else {
+          throw InputError(kComponent, InputLocation{file, row_name, ""},
+                           std::string("the geometry is a ") + g->getGeometryName() +
+                               "; samples must be points");
+        }
+        row.p.x = pt->getX();
+        row.p.y = pt->getY();
+        if (!std::isfinite(row.p.x) || !std::isfinite(row.p.y))
+          throw InputError(kComponent, InputLocation{file, row_name, ""},
+                           "the point's coordinates are not finite");
+      }
+    }
+    if (fz >= 0 && !coordinate_missing) {
+      row.p.z = read_coordinate(*feature, fz, {file, row_name, options.z});
+      coordinate_missing = std::isnan(row.p.z);
+    }
+    // Values are checked even on rows dropped for their coordinates, so that
+    // a bad cell is never hidden.
+    row.values.assign(nv, std::nan(""));
+    row.censored.assign(nv, 0);
+    std::size_t present = 0;
+    for (std::size_t k = 0; k < nv; ++k) {
+      const int field = value_fields[k];
+      const InputLocation where{file, row_name, options.values[k]};
+      ParsedValue pv;
+      if (!feature->IsFieldSetAndNotNull(field)) {
+        pv.kind = ParsedValue::Kind::missing;
+      } else {
+        const OGRFieldType type = feature->GetFieldDefnRef(field)->GetType();
+        if (type == OFTReal || type == OFTInteger || type == OFTInteger64) {
+          pv.kind = ParsedValue::Kind::number;
+          pv.value = feature->GetFieldAsDouble(field);
+          if (!std::isfinite(pv.value))
+            throw InputError(kComponent, where, "the value is not finite");
+        } else {
+          const std::string text = feature->GetFieldAsString(field);
+          pv = parse_value(text);
+          if (pv.kind == ParsedValue::Kind::invalid)
+            throw InputError(kComponent, where,
+                             "cannot read '" + text +
+                                 "' as a number, a non-detect (<DL) or a missing marker");
+        }
+      }
+      switch (pv.kind) {
+        case ParsedValue::Kind::number:
+          row.values[k] = pv.value;
+          ++present;
+          break;
+        case ParsedValue::Kind::missing:
+          ++sum.missing[k];
+          break;
+        case ParsedValue::Kind::below_detection:
+          ++sum.below_detection[k];
+          row.censored[k] = 1;
+          switch (options.below_detection) {
+            case BelowDetection::half: row.values[k] = pv.value / 2; break;
+            case BelowDetection::limit: row.values[k] = pv.value; break;
+            case BelowDetection::zero: row.values[k] = 0; break;
+            case BelowDetection::drop: row.values[k] = std::nan(""); break;
+          }
+          if (!std::isnan(row.values[k])) ++present;
+          break;
+        case ParsedValue::Kind::invalid:
+          break;  // thrown above
+      }
+    }
+    if (coordinate_missing) {
+      ++sum.dropped_no_coordinate;
+      continue;
+    }
+    if (present == 0) {
+      ++sum.dropped_no_value;
+      continue;
+    }
+    rows.push_back(std::move(row));
+  }
+  if (CPLGetLastErrorType() == CE_Failure)
+    throw InputError(kComponent, file + ": reading failed" + gdal_message());
+
+  if (rows.empty()) {
+    if (sum.rows_read == 0)
+      throw InputError(kComponent, file + ": holds no data rows" +
+                                       (options.where.empty() ? "" : " that pass --where"));
+    throw InputError(kComponent, file + ": none of the " + std::to_string(sum.rows_read) +
+                                     " rows has both coordinates and a value");
+  }
+
+  if (transform) {
+    for (auto& r : rows) {
+      double x = r.p.x, y = r.p.y, z = r.p.z;
+      if (!transform->Transform(1, &x, &y, &z) || !std::isfinite(x) || !std::isfinite(y))
+        throw InputError(kComponent, InputLocation{file, r.id, ""},
+                         "the point cannot be transformed to " + options.to_crs);
+      r.p.x = x;
+      r.p.y = y;
+      if (set.dimension == 3) r.p.z = z;
+    }
+  }
+  sum.rows_kept = rows.size();
+
+  // --- Duplicate locations ---------------------------------------------------------
+  std::vector<std::size_t> order(rows.size());
+  std::iota(order.begin(), order.end(), 0);
+  auto key_less = [&rows](std::size_t a, std::size_t b) {
+    const Point &p = rows[a].p, &q = rows[b].p;
+    if (p.x != q.x) return p.x < q.x;
+    if (p.y != q.y) return p.y < q.y;
+    if (p.z != q.z) return p.z < q.z;
+    return a < b;
+  };
+  auto same = [&rows](std::size_t a, std::size_t b) {
+    return rows[a].p.x == rows[b].p.x && rows[a].p.y == rows[b].p.y && rows[a].p.z == rows[b].p.z;
+  };
+  std::sort(order.begin(), order.end(), key_less);
+  std::vector<char> keep(rows.size(), 1);
+  for (std::size_t i = 0; i < order.size();) {
+    std::size_t j = i + 1;
+    while (j < order.size() && same(order[i], order[j])) ++j;
+    if (j - i > 1) {
+      const std::size_t first = order[i];  // lowest source index, thanks to the tie-break
+      ++sum.duplicate_locations;
+      sum.duplicate_rows_removed += j - i - 1;
+      std::string note = rows[first].id;
+      for (std::size_t k = i + 1; k < j; ++k) note += " = " + rows[order[k]].id;
+      if (options.duplicates == DuplicatePolicy::error)
+        throw InputError(kComponent, file + ": several samples at one location (" + note +
+                                         "); choose --duplicates average or first");
+      if (sum.duplicate_examples.size() < 5) sum.duplicate_examples.push_back(note);
+      if (options.duplicates == DuplicatePolicy::average) {
+        for (std::size_t v = 0; v < nv; ++v) {
+          double total = 0;
+          std::size_t n = 0, censored = 0;
+          for (std::size_t k = i; k < j; ++k) {
+            const double x = rows[order[k]].values[v];
+            if (std::isnan(x)) continue;
+            total += x;
+            ++n;
+            censored += rows[order[k]].censored[v];
+          }
+          rows[first].values[v] = n ? total / static_cast<double>(n) : std::nan("");
+          rows[first].censored[v] = n > 0 && censored == n;
+        }
+      }
+      for (std::size_t k = i + 1; k < j; ++k) keep[order[k]] = 0;
+    }
+    i = j;
+  }
+
+  // --- Assemble, in source order -------------------------------------------------
+  set.values.assign(nv, {});
+  set.censored.assign(nv, {});
+  for (std::size_t i = 0; i < rows.size(); ++i) {
+    if (!keep[i]) continue;
+    set.points.push_back(rows[i].p);
+    set.ids.push_back(rows[i].id);
+    set.row_numbers.push_back(rows[i].number);
+    for (std::size_t v = 0; v < nv; ++v) {
+      set.values[v].push_back(rows[i].values[v]);
+      set.censored[v].push_back(rows[i].censored[v]);
+    }
+  }
+
+  if (analysis_srs) {
+    char* wkt = nullptr;
+    const char* wkt_options[] = {"FORMAT=WKT2_2019", nullptr};
+    if (analysis_srs->exportToWkt(&wkt, wkt_options) == OGRERR_NONE && wkt) set.crs_wkt = wkt;
+    CPLFree(wkt);
+    set.crs_name = analysis_srs->GetName() ? analysis_srs->GetName() : "";
+    set.crs_authority = srs_authority(*analysis_srs);
+  } else {
+    sum.warnings.push_back("the samples have no CRS: coordinates are taken as local "
+                           "projected units and outputs will carry no CRS (give one with --crs)");
+  }
+
+  // --- Warnings for what was repaired ----------------------------------------------
+  const std::string policy(name_of(options.below_detection));
+  for (std::size_t v = 0; v < nv; ++v) {
+    if (sum.below_detection[v])
+      sum.warnings.push_back(std::to_string(sum.below_detection[v]) + " value(s) of '" +
+                             options.values[v] + "' are below detection (<DL); replaced by " +
+                             (options.below_detection == BelowDetection::half    ? "DL/2"
+                              : options.below_detection == BelowDetection::limit ? "DL"
+                              : options.below_detection == BelowDetection::zero  ? "0"
+                                                                                 : "nothing (dropped)") +
+                             " (--below-detection " + policy + ")");
+    if (sum.missing[v])
+      sum.warnings.push_back(std::to_string(sum.missing[v]) + " value(s) of '" +
+                             options.values[v] + "' are blank or marked missing; skipped");
+  }
+  if (sum.dropped_no_coordinate)
+    sum.warnings.push_back(std::to_string(sum.dropped_no_coordinate) +
+                           " row(s) without coordinates were dropped");
+  if (sum.dropped_no_value)
+    sum.warnings.push_back(std::to_string(sum.dropped_no_value) +
+                           " row(s) without any value were dropped");
+  if (sum.duplicate_locations) {
+    std::string examples;
+    for (const auto& e : sum.duplicate_examples) examples += (examples.empty() ? "" : "; ") + e;
+    sum.warnings.push_back(
+        std::to_string(sum.duplicate_locations) + " location(s) hold more than one sample (" +
+        examples + (sum.duplicate_locations > sum.duplicate_examples.size() ? "; ..." : "") +
+        "); " +
+        (options.duplicates == DuplicatePolicy::average ? "values averaged"
+                                                        : "first row kept") +
+        " (--duplicates " + std::string(name_of(options.duplicates)) + ")");
+  }
+  return set;
+}
+
+}  // namespace sillstone

@@ -1,0 +1,111 @@
+"""Command-line golden cases, kept as data.
+
+Each file in cases/ is one case:
+
+    # what the case shows (comment lines start with #)
+    args: inspect @bad.csv --x x --y y --value v
+    exit: 2
+    stderr-match: ^error: samples: .*bad\\.csv, line 3, column 'v'
+    stderr-lines: 1
+    stdout-match: <regex>          (any number of *-match lines; all must match)
+    stdout-absent: <regex>         (must not match)
+    --- bad.csv
+    x,y,v
+    ...
+
+`@name` in args is replaced by the path of the file written from the
+`--- name` section (in a fresh temporary folder, which is also the working
+directory); `@dir` by that folder. `{demo}` is the demo-sites folder.
+Regexes are Python `re.search` with MULTILINE.
+Usage: run_cases.py PATH/TO/sillstone CASES_DIR
+"""
+import os
+import re
+import shlex
+import subprocess
+import sys
+import tempfile
+
+ROOT = os.path.abspath(os.path.join(os.path.dirname(__file__), "..", ".."))
+
+
+def parse(path):
+    case = {"files": {}, "match": [], "absent": []}
+    current = None
+    with open(path, encoding="utf-8") as f:
+        for raw in f:
+            line = raw.rstrip("\n")
+            if line.startswith("--- "):
+                current = line[4:].strip()
+                case["files"][current] = []
+                continue
+            if current is not None:
+                case["files"][current].append(raw)
+                continue
+            if not line.strip() or line.startswith("#"):
+                continue
+            key, _, value = line.partition(":")
+            value = value.strip()
+            if key.endswith("-match"):
+                case["match"].append((key[:-6], value))
+            elif key.endswith("-absent"):
+                case["absent"].append((key[:-7], value))
+            else:
+                case[key] = value
+    return case
+
+
+def run(exe, path):
+    case = parse(path)
+    with tempfile.TemporaryDirectory() as tmp:
+        for name, lines in case["files"].items():
+            with open(os.path.join(tmp, name), "w", encoding="utf-8", newline="") as f:
+                f.write("".join(lines))
+        args = []
+        for a in shlex.split(case["args"]):
+            a = a.replace("{demo}", os.path.join(ROOT, "demo-sites"))
+            if a == "@dir":
+                a = tmp
+            elif a.startswith("@"):
+                a = os.path.join(tmp, a[1:])
+            args.append(a)
+        p = subprocess.run([exe] + args, capture_output=True, text=True, cwd=tmp, timeout=120)
+        created = set(os.listdir(tmp)) - set(case["files"])
+    problems = []
+    want_exit = int(case.get("exit", "0"))
+    if p.returncode != want_exit:
+        problems.append(f"exit {p.returncode}, expected {want_exit}")
+    streams = {"stdout": p.stdout, "stderr": p.stderr}
+    for stream, rx in case["match"]:
+        if not re.search(rx, streams[stream], re.MULTILINE):
+            problems.append(f"{stream} does not match /{rx}/")
+    for stream, rx in case["absent"]:
+        if re.search(rx, streams[stream], re.MULTILINE):
+            problems.append(f"{stream} matches /{rx}/ but should not")
+    if "stderr-lines" in case:
+        n = len(p.stderr.splitlines())
+        if n != int(case["stderr-lines"]):
+            problems.append(f"stderr has {n} lines, expected {case['stderr-lines']}")
+    if want_exit != 0 and created:
+        problems.append(f"a refused run left files behind: {sorted(created)}")
+    if problems:
+        return problems + ["--- stdout:", p.stdout[-2000:], "--- stderr:", p.stderr[-2000:]]
+    return []
+
+
+def main():
+    exe, cases_dir = os.path.abspath(sys.argv[1]), sys.argv[2]
+    names = sorted(n for n in os.listdir(cases_dir) if n.endswith(".case"))
+    failed = 0
+    for name in names:
+        problems = run(exe, os.path.join(cases_dir, name))
+        print(("ok    " if not problems else "FAIL  ") + name)
+        for line in problems:
+            print("      " + line)
+        failed += bool(problems)
+    print(f"{len(names) - failed} passed, {failed} failed")
+    return 1 if failed or not names else 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
