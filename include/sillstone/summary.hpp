@@ -47,7 +47,7 @@ struct DeclusteringOptions {
   bool is_valid(std::string* why) const;
 };
 
-/// Result of cell declustering (Journel 1983; Deutsch 1989).
+/// Result of cell declustering (Journel 1983; Isaaks & Srivastava 1989, ch. 10).
 struct DeclusteringResult {
   double mean = 0;                 ///< declustered mean at the chosen cell size
   double cell = 0;                 ///< the chosen cell size

@@ -1,4 +1,4 @@
-// Cell declustering (Journel 1983; Deutsch 1989): each sample is weighted by
+// Cell declustering (Journel 1983; Isaaks & Srivastava 1989, ch. 10): each sample is weighted by
 // 1 / (samples in its cell x occupied cells), so clustered samples share the
 // weight of their cell. Averaging over a few shifted grid origins removes most
 // of the dependence on where the grid happens to start.
@@ -114,7 +114,7 @@ DeclusteringResult decluster(const std::vector<Point>& points, const std::vector
   }
   // When the declustered means fall below the raw mean the samples cluster in
   // high values (hot spots), and the minimum is taken; when they rise above
-  // it, the maximum (Deutsch & Journel 1998, from memory; common practice).
+  // it, the maximum (common practice, from memory).
   const auto [mn, mx] = std::minmax_element(r.scan_means.begin(), r.scan_means.end());
   const bool high_clusters = naive - *mn >= *mx - naive;
   const auto best = high_clusters ? mn : mx;
