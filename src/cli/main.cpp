@@ -9,10 +9,12 @@
 
 #include "cli/verbs.hpp"
 #include "sillstone/error.hpp"
+#include "sillstone/outputs.hpp"
 #include "sillstone/version.hpp"
 
 int main(int argc, char** argv) {
   using namespace sillstone;
+  install_interrupt_cleanup();
   CLI::App app{"sillstone " + version() +
                ": geostatistics from point samples (variograms, covariance models, kriging)"};
   app.set_version_flag("--version", "sillstone " + version());
