@@ -1,0 +1,53 @@
+// sillstone/grid.hpp -- the grid or block model that kriging fills.
+//
+// Conventions (shared/PRODUCT.md): the extent gives the OUTER EDGES of the
+// raster; nodes are cell centres; rows run north to south as in GeoTIFF.
+// Node (col, row[, layer]) is at
+//   x = xmin + (col + 0.5) dx,  y = ymax - (row + 0.5) dy,  z = zmin + (layer + 0.5) dz.
+#pragma once
+
+#include <array>
+#include <cstdint>
+#include <string>
+#include <vector>
+
+namespace sillstone {
+
+/// How the user described the grid.
+struct GridOptions {
+  std::vector<double> cell;    ///< dx[,dy[,dz]] (dy = dx and dz = dx when left out)
+  std::vector<double> extent;  ///< xmin,ymin,xmax,ymax[,zmin,zmax]; empty: from `like` or the samples
+  std::string like;            ///< template raster: its size, geotransform and CRS
+  bool is_valid(std::string* why) const;
+};
+
+/// A regular grid, 2D (nz == 1, dimension 2) or 3D.
+struct GridSpec {
+  int dimension = 2;
+  double xmin = 0, ymax = 0, zmin = 0;  ///< outer edges: west, north, bottom
+  double dx = 1, dy = 1, dz = 1;        ///< cell sizes (positive)
+  std::int64_t nx = 0, ny = 0, nz = 1;  ///< columns, rows, layers
+  std::string crs_wkt;                  ///< the CRS of the outputs (empty: none)
+  std::vector<std::string> notes;       ///< adjustments made (e.g. extent widened to whole cells)
+
+  std::int64_t nodes() const { return nx * ny * nz; }
+  double x(std::int64_t col) const { return xmin + (static_cast<double>(col) + 0.5) * dx; }
+  double y(std::int64_t row) const { return ymax - (static_cast<double>(row) + 0.5) * dy; }
+  double z(std::int64_t layer) const { return zmin + (static_cast<double>(layer) + 0.5) * dz; }
+  double xmax() const { return xmin + static_cast<double>(nx) * dx; }
+  double ymin() const { return ymax - static_cast<double>(ny) * dy; }
+  double zmax() const { return zmin + static_cast<double>(nz) * dz; }
+  /// GDAL geotransform of a north-up raster.
+  std::array<double, 6> geotransform() const { return {xmin, dx, 0.0, ymax, 0.0, -dy}; }
+};
+
+/// Builds the grid. `samples_extent` (xmin,ymin,xmax,ymax[,zmin,zmax]) is used
+/// when neither an extent nor a template is given. An extent that is not a
+/// whole number of cells is widened east and south (and up) to whole cells,
+/// with a note. Throws InputError for zero-area extents, non-positive cells,
+/// unreadable or rotated templates, and grids over `max_nodes`.
+GridSpec make_grid(const GridOptions& options, int dimension,
+                   const std::vector<double>& samples_extent, const std::string& crs_wkt,
+                   std::int64_t max_nodes = 4'000'000'000LL);
+
+}  // namespace sillstone

@@ -1,0 +1,56 @@
+// sillstone/raster.hpp -- streaming GDAL raster output.
+//
+// Rows are written in blocks as they are computed, so a grid larger than
+// memory can be written. The writer works on a temporary path (see
+// outputs.hpp); the caller renames it when complete.
+#pragma once
+
+#include <cstdint>
+#include <memory>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include "sillstone/grid.hpp"
+
+namespace sillstone {
+
+struct RasterLayout {
+  GridSpec grid;                              ///< 2D grid: size, geotransform, CRS
+  std::vector<std::string> bands;             ///< band descriptions, e.g. "estimate", "variance"
+  double nodata = -9999.0;                    ///< written for masked or unestimable cells
+  std::string format = "GTiff";               ///< any GDAL raster driver that supports Create()
+  std::vector<std::pair<std::string, std::string>> metadata;  ///< dataset metadata items
+};
+
+/// Bytes the raster would take uncompressed (Float64 cells), for refusing
+/// grids that cannot fit before any work starts.
+double raster_bytes(const GridSpec& grid, std::size_t bands);
+
+/// The GDAL driver short name for an output path's extension (".tif" ->
+/// "GTiff", ".img" -> "HFA", ".nc" -> "netCDF", ...); `format` wins when given.
+std::string raster_driver_for(const std::string& path, const std::string& format);
+
+class RasterWriter {
+ public:
+  /// Creates the raster at `path` (Float64 bands; GeoTIFFs are tiled and
+  /// DEFLATE-compressed, BigTIFF when needed). Throws InputError when the
+  /// driver is unknown or cannot create files, std::runtime_error on I/O failure.
+  RasterWriter(const std::string& path, const RasterLayout& layout);
+  ~RasterWriter();
+  RasterWriter(const RasterWriter&) = delete;
+  RasterWriter& operator=(const RasterWriter&) = delete;
+
+  /// Writes `rows` full rows starting at `first_row` of band `band` (0-based)
+  /// from `data` (row-major, rows * nx values).
+  void write_rows(int band, std::int64_t first_row, std::int64_t rows, const double* data);
+
+  /// Flushes and closes the file; throws if anything failed.
+  void close();
+
+ private:
+  struct Impl;
+  std::unique_ptr<Impl> impl_;
+};
+
+}  // namespace sillstone
