@@ -4,7 +4,7 @@ Outside references (Debian's python3-scipy and python3-numpy):
   - scipy.special.kv (modified Bessel function of the second kind K_nu) and
     scipy.special.gamma give the Matern correlation
         rho_nu(t) = 2^(1-nu) / Gamma(nu) * t^nu * K_nu(t)
-    (Matern 1986; Stein 1999, eq. 2.10.3 -- equation number from memory);
+    (Matern 1986; Stein 1999);
   - scipy.optimize.brentq solves rho_nu(t95) = 0.05, the contract's definition
     of the Matern practical range (PRODUCT.md, Conventions), so that
     t = t95 * h / range;

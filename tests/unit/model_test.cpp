@@ -236,6 +236,21 @@ TEST_CASE("2D anisotropy: the worked example of docs/models.md", "[model][anisot
   CHECK(single("spherical(range=200)").variogram(r * 200) == Approx(expected).epsilon(1e-14));
 }
 
+TEST_CASE("3D anisotropy: the worked example of docs/models.md", "[model][anisotropy]") {
+  // 1 exponential(range=100, azimuth=90, dip=30, ratio=0.5, ratio2=0.25): the
+  // major axis points east, 30 degrees down. The horizontal lag (50, 0, 0) has
+  // 50 cos 30 = 43.301 along the major axis (range 100) and 50 sin 30 = 25
+  // along the third axis (range 25): r = sqrt(0.1875 + 1).
+  const auto m = single("exponential(range=100, azimuth=90, dip=30, ratio=0.5, ratio2=0.25)");
+  const double r = std::sqrt(0.1875 + 1.0);
+  CHECK(m.variogram(50.0, 0.0, 0.0) == Approx(1 - std::exp(-3 * r)).epsilon(1e-14));
+  CHECK(1 - std::exp(-3 * r) == Approx(0.96196).margin(5e-6));  // printed in the docs
+  // 50 units down the major axis: r = 0.5.
+  CHECK(m.variogram(50 * std::cos(30 * kDegree), 0.0, -25.0) ==
+        Approx(1 - std::exp(-1.5)).epsilon(1e-14));
+  CHECK(1 - std::exp(-1.5) == Approx(0.77687).margin(5e-6));
+}
+
 TEST_CASE("3D anisotropy: dip tilts the major axis, plunge turns the minor axes about it",
           "[model][anisotropy]") {
   // Major axis at azimuth 90 (east) dipping 30 degrees down; range 100 along
