@@ -10,6 +10,7 @@
 #include <cmath>
 #include <map>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "models/model_detail.hpp"
