@@ -4,7 +4,9 @@
 #include <utility>
 
 #include "sillstone/error.hpp"
+#include "sillstone/model.hpp"
 #include "sillstone/samples.hpp"
+#include "sillstone/transform.hpp"
 
 namespace sillstone {
 namespace detail {
@@ -28,6 +30,28 @@ struct NameTable<DuplicatePolicy> {
       {DuplicatePolicy::average, "average"},
       {DuplicatePolicy::first, "first"},
       {DuplicatePolicy::error, "error"},
+  }};
+};
+
+template <>
+struct NameTable<Transform> {
+  static constexpr std::array<std::pair<Transform, std::string_view>, 3> entries{{
+      {Transform::none, "none"},
+      {Transform::log, "log"},
+      {Transform::normal_score, "normal-score"},
+  }};
+};
+
+template <>
+struct NameTable<Family> {
+  static constexpr std::array<std::pair<Family, std::string_view>, 7> entries{{
+      {Family::nugget, "nugget"},
+      {Family::spherical, "spherical"},
+      {Family::exponential, "exponential"},
+      {Family::gaussian, "gaussian"},
+      {Family::cubic, "cubic"},
+      {Family::matern, "matern"},
+      {Family::power, "power"},
   }};
 };
 
@@ -64,6 +88,8 @@ Enum parse_name(std::string_view text, std::string_view what) {
 
 SILLSTONE_NAMED_ENUM(BelowDetection)
 SILLSTONE_NAMED_ENUM(DuplicatePolicy)
+SILLSTONE_NAMED_ENUM(Transform)
+SILLSTONE_NAMED_ENUM(Family)
 
 #undef SILLSTONE_NAMED_ENUM
 

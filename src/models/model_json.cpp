@@ -1,0 +1,210 @@
+// model.json: reading, writing, and the `--model` option (layout in docs/models.md).
+// Unknown keys are refused, like those of study files, so that a misspelt
+// "ratio" never silently becomes an isotropic model. The "fit" object belongs
+// to the fit stage and is kept as it is.
+#include <algorithm>
+#include <cmath>
+#include <cstdint>
+#include <filesystem>  // std::filesystem::is_regular_file for --model
+#include <fstream>
+#include <sstream>
+#include <string>
+#include <utility>
+#include <vector>
+
+#include <nlohmann/json.hpp>  // ordered_json: keys are written in the documented order
+
+#include "models/model_detail.hpp"
+#include "sillstone/error.hpp"
+#include "sillstone/names.hpp"
+
+namespace sillstone {
+namespace {
+
+using Json = nlohmann::ordered_json;
+
+std::string joined(const std::vector<std::string>& items) {
+  std::string out;
+  for (const auto& item : items) out += (out.empty() ? "" : ", ") + item;
+  return out;
+}
+
+bool contains(const std::vector<std::string>& items, const std::string& item) {
+  return std::find(items.begin(), items.end(), item) != items.end();
+}
+
+class JsonModelReader {
+ public:
+  explicit JsonModelReader(const std::string& source) : source_(source) {}
+
+  ModelFile read(const std::string& text) const {
+    Json doc;
+    try {
+      doc = Json::parse(text);
+    } catch (const Json::parse_error& e) {
+      const std::string what =
+          e.what();  // "[json.exception.parse_error.101] parse error at line ..."
+      fail("", "not valid JSON: " + what.substr(what.find(']') + 2));
+    }
+    if (!doc.is_object()) fail("", "expected a JSON object with a \"structures\" array");
+    refuse_unknown(doc, {"structures", "transform", "fit"}, "");
+    if (!doc.contains("structures")) fail("", "missing \"structures\"");
+    const Json& list = doc["structures"];
+    if (!list.is_array() || list.empty())
+      fail("structures", "expected a non-empty array of structures");
+
+    std::vector<Structure> structures;
+    for (std::size_t i = 0; i < list.size(); ++i)
+      structures.push_back(structure(list[i], path_of(i)));
+    std::size_t index = 0;
+    if (const auto fault = detail::check_model(structures, &index)) {
+      if (index == structures.size()) fail("structures", fault->message);
+      const bool anisotropy = contains(anisotropy_keys(), fault->key);
+      fail(path_of(index) +
+               (fault->key.empty() ? ""
+                : anisotropy       ? ".anisotropy."
+                                   : ".") +
+               fault->key,
+           fault->message);
+    }
+
+    ModelFile out;
+    out.model = CovarianceModel(std::move(structures));
+    if (doc.contains("transform"))
+      out.transform = name_value<Transform>(doc["transform"], "transform");
+    if (doc.contains("fit")) {
+      if (!doc["fit"].is_object()) fail("fit", "expected an object");
+      out.fit = doc["fit"].dump();
+    }
+    return out;
+  }
+
+ private:
+  static std::string path_of(std::size_t i) { return "structures[" + std::to_string(i) + "]"; }
+
+  static std::vector<std::string> anisotropy_keys() {
+    return {std::begin(detail::kAnisotropyKeys), std::end(detail::kAnisotropyKeys)};
+  }
+
+  Structure structure(const Json& object, const std::string& path) const {
+    if (!object.is_object()) fail(path, "expected an object with \"family\" and \"sill\"");
+    if (!object.contains("family")) fail(path, "missing \"family\"");
+    Structure s;
+    s.family = name_value<Family>(object["family"], path + ".family");
+    const std::string family(name_of(s.family));
+
+    std::vector<std::string> required;
+    const auto parameters = detail::parameter_keys(s.family, &required);
+    std::vector<std::string> keys{"family", "sill"};
+    for (const auto& key : parameters)
+      if (!contains(anisotropy_keys(), key)) keys.push_back(key);
+    if (detail::takes_anisotropy(s.family)) keys.push_back("anisotropy");
+    refuse_unknown(object, keys, path, " of " + family);
+
+    required.insert(required.begin(), "sill");
+    for (const auto& key : required)
+      if (!object.contains(key)) fail(path, family + " needs \"" + key + "\"");
+    s.sill = number(object["sill"], path + ".sill");
+    for (const auto& key : parameters)
+      if (object.contains(key))
+        detail::set_parameter(&s, key, number(object[key], path + "." + key));
+
+    if (object.contains("anisotropy")) {
+      const Json& a = object["anisotropy"];
+      const std::string where = path + ".anisotropy";
+      if (!a.is_object()) fail(where, "expected an object");
+      refuse_unknown(a, anisotropy_keys(), where);
+      for (const auto& key : anisotropy_keys())
+        if (a.contains(key)) detail::set_parameter(&s, key, number(a[key], where + "." + key));
+    }
+    return s;
+  }
+
+  double number(const Json& value, const std::string& path) const {
+    if (!value.is_number())
+      fail(path, std::string("expected a number, found ") + value.type_name());
+    return value.get<double>();
+  }
+
+  template <class Enum>
+  Enum name_value(const Json& value, const std::string& path) const {
+    const auto names = names_of<Enum>();
+    if (!value.is_string() || !contains(names, value.get<std::string>()))
+      fail(path, "expected one of " + joined(names) + ", found " + value.dump());
+    return parse_name<Enum>(value.get<std::string>(), path);
+  }
+
+  void refuse_unknown(const Json& object, const std::vector<std::string>& keys,
+                      const std::string& path, const std::string& owner = "") const {
+    for (const auto& item : object.items())
+      if (!contains(keys, item.key()))
+        fail((path.empty() ? "" : path + ".") + item.key(),
+             "unknown key (keys" + owner + ": " + joined(keys) + ")");
+  }
+
+  [[noreturn]] void fail(const std::string& path, const std::string& message) const {
+    throw InputError("model", source_ + ": " + (path.empty() ? "" : path + ": ") + message);
+  }
+
+  const std::string& source_;
+};
+
+// Whole numbers are written without a fraction ("range": 450, as in the docs).
+Json number(double x) {
+  if (x == std::trunc(x) && std::fabs(x) < 1e15) return static_cast<std::int64_t>(x);
+  return x;
+}
+
+}  // namespace
+
+ModelFile model_from_json(const std::string& text, const std::string& source_name) {
+  return JsonModelReader(source_name).read(text);
+}
+
+std::string model_to_json(const ModelFile& file) {
+  Json list = Json::array();
+  for (const Structure& s : file.model.structures()) {
+    Json o;
+    o["family"] = std::string(name_of(s.family));
+    o["sill"] = number(s.sill);
+    if (detail::takes_range(s.family)) o["range"] = number(s.range);
+    if (s.family == Family::matern) o["nu"] = number(s.nu);
+    if (s.family == Family::power) o["exponent"] = number(s.exponent);
+    const Anisotropy& a = s.anisotropy;
+    if (!(a == Anisotropy{})) {
+      Json an{{"azimuth", number(a.azimuth)}, {"ratio", number(a.ratio)}};
+      if (a.dip != 0 || a.plunge != 0 || a.ratio2 != 1) {
+        an["dip"] = number(a.dip);
+        an["plunge"] = number(a.plunge);
+        an["ratio2"] = number(a.ratio2);
+      }
+      o["anisotropy"] = an;
+    }
+    list.push_back(o);
+  }
+  Json doc;
+  doc["structures"] = list;
+  doc["transform"] = std::string(name_of(file.transform));
+  if (!file.fit.empty()) doc["fit"] = Json::parse(file.fit);
+  return doc.dump(2) + "\n";
+}
+
+ModelFile load_model(const std::string& model_option) {
+  const std::string suffix = ".json";
+  const bool json_name =
+      model_option.size() >= suffix.size() &&
+      model_option.compare(model_option.size() - suffix.size(), suffix.size(), suffix) == 0;
+  std::error_code ignored;  // an unreadable path is then taken as a SPEC, whose error says more
+  if (!json_name && !std::filesystem::is_regular_file(model_option, ignored)) {
+    ModelFile out;
+    out.model = parse_model_spec(model_option);
+    return out;
+  }
+  std::ifstream in(model_option, std::ios::binary);
+  if (!in) throw InputError("model", model_option + ": cannot open the model file");
+  std::ostringstream text;
+  text << in.rdbuf();
+  return model_from_json(text.str(), model_option);
+}
+
+}  // namespace sillstone
