@@ -4,6 +4,7 @@
 #include <utility>
 
 #include "sillstone/error.hpp"
+#include "sillstone/kriging.hpp"
 #include "sillstone/model.hpp"
 #include "sillstone/samples.hpp"
 #include "sillstone/transform.hpp"
@@ -55,6 +56,24 @@ struct NameTable<Family> {
   }};
 };
 
+template <>
+struct NameTable<KrigingMethod> {
+  static constexpr std::array<std::pair<KrigingMethod, std::string_view>, 3> entries{{
+      {KrigingMethod::simple, "simple"},
+      {KrigingMethod::ordinary, "ordinary"},
+      {KrigingMethod::universal, "universal"},
+  }};
+};
+
+template <>
+struct NameTable<Drift> {
+  static constexpr std::array<std::pair<Drift, std::string_view>, 3> entries{{
+      {Drift::none, "none"},
+      {Drift::linear, "linear"},
+      {Drift::quadratic, "quadratic"},
+  }};
+};
+
 }  // namespace detail
 
 template <class Enum>
@@ -90,6 +109,8 @@ SILLSTONE_NAMED_ENUM(BelowDetection)
 SILLSTONE_NAMED_ENUM(DuplicatePolicy)
 SILLSTONE_NAMED_ENUM(Transform)
 SILLSTONE_NAMED_ENUM(Family)
+SILLSTONE_NAMED_ENUM(KrigingMethod)
+SILLSTONE_NAMED_ENUM(Drift)
 
 #undef SILLSTONE_NAMED_ENUM
 

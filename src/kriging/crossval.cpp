@@ -1,0 +1,232 @@
+// Cross-validation: every sample estimated without itself (or its fold).
+#include <omp.h>
+
+#include <algorithm>
+#include <chrono>
+#include <cmath>
+#include <iomanip>
+#include <numeric>
+#include <random>
+#include <sstream>
+
+#include <nlohmann/json.hpp>
+
+#include "sillstone/crossval.hpp"
+#include "sillstone/error.hpp"
+
+namespace sillstone {
+namespace {
+
+// The samples of `column` that have a value, as a compact SampleSet whose
+// indices the kriging engine shares.
+SampleSet with_values(const SampleSet& s, std::size_t column, const std::vector<std::size_t>& keep) {
+  SampleSet out;
+  out.source = s.source;
+  out.layer = s.layer;
+  out.dimension = s.dimension;
+  out.value_names = {s.value_names[column]};
+  out.values.assign(1, {});
+  out.censored.assign(1, {});
+  out.crs_wkt = s.crs_wkt;
+  out.crs_name = s.crs_name;
+  for (std::size_t i : keep) {
+    out.points.push_back(s.points[i]);
+    out.ids.push_back(s.ids[i]);
+    out.row_numbers.push_back(s.row_numbers[i]);
+    out.values[0].push_back(s.values[column][i]);
+    out.censored[0].push_back(s.censored[column][i]);
+  }
+  return out;
+}
+
+std::string num(double v) {
+  if (!std::isfinite(v)) return "";
+  std::ostringstream s;
+  s.precision(17);
+  s << v;
+  return s.str();
+}
+
+}  // namespace
+
+bool CrossValidationOptions::is_valid(std::size_t samples, std::string* why) const {
+  if (folds == 1 || folds < 0 || (folds > 0 && static_cast<std::size_t>(folds) > samples)) {
+    if (why) *why = "--folds must be 0 (leave-one-out) or between 2 and the number of samples";
+    return false;
+  }
+  return true;
+}
+
+CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceModel& model,
+                                     const KrigingOptions& kriging,
+                                     const NeighbourhoodOptions& neighbourhood,
+                                     const CrossValidationOptions& options, std::size_t column) {
+  const auto start = std::chrono::steady_clock::now();
+  std::vector<std::size_t> keep;
+  for (std::size_t i = 0; i < samples.size(); ++i)
+    if (!std::isnan(samples.values[column][i])) keep.push_back(i);
+  std::string why;
+  if (!options.is_valid(keep.size(), &why)) throw InputError("crossval", why);
+  const SampleSet all = with_values(samples, column, keep);
+  const std::size_t n = all.size();
+
+  CrossValidationResult result;
+  result.rows.resize(n);
+  const int threads = kriging.threads > 0 ? kriging.threads : std::max(1, omp_get_max_threads());
+  std::vector<NodeEstimate> estimates(n);
+
+  // Fold of each sample: a Fisher-Yates shuffle driven by a fixed-seed
+  // mt19937_64 (whose output sequence the C++ standard fixes), so folds
+  // are the same on every platform.
+  std::vector<int> fold(n, 0);
+  if (options.folds >= 2) {
+    std::vector<std::size_t> order(n);
+    std::iota(order.begin(), order.end(), 0);
+    std::mt19937_64 rng(options.seed);
+    for (std::size_t i = n; i > 1; --i) std::swap(order[i - 1], order[rng() % i]);
+    for (std::size_t k = 0; k < n; ++k) fold[order[k]] = static_cast<int>(k % static_cast<std::size_t>(options.folds));
+  }
+
+  auto run = [&](const KrigingEngine& engine, const std::vector<std::size_t>& targets,
+                 const std::vector<std::int64_t>& exclude) {
+    std::vector<std::unique_ptr<KrigingEngine::Workspace>> ws;
+    for (int t = 0; t < threads; ++t) ws.push_back(engine.make_workspace());
+    const bool external = !kriging.external_drift.empty();
+#pragma omp parallel for num_threads(threads) schedule(dynamic, 16)
+    for (std::size_t k = 0; k < targets.size(); ++k) {
+      const Point& p = all.points[targets[k]];
+      estimates[targets[k]] = engine.estimate(p, *ws[static_cast<std::size_t>(omp_get_thread_num())],
+                                              exclude[k], external ? engine.external_at(p) : 0.0);
+    }
+  };
+
+  std::vector<double> kriged(n);  // the kriged-scale value of each sample
+  if (options.folds < 2) {
+    const KrigingEngine engine(all, model, kriging, neighbourhood);
+    std::vector<std::size_t> targets(n);
+    std::iota(targets.begin(), targets.end(), 0);
+    std::vector<std::int64_t> exclude(targets.begin(), targets.end());
+    run(engine, targets, exclude);
+    for (std::size_t i = 0; i < n; ++i) kriged[i] = engine.value(i);
+  } else {
+    for (int f = 0; f < options.folds; ++f) {
+      std::vector<std::size_t> train, targets;
+      for (std::size_t i = 0; i < n; ++i) (fold[i] == f ? targets : train).push_back(i);
+      const SampleSet training = with_values(all, 0, train);
+      const KrigingEngine engine(training, model, kriging, neighbourhood);
+      run(engine, targets, std::vector<std::int64_t>(targets.size(), -1));
+    }
+    for (std::size_t i = 0; i < n; ++i)
+      kriged[i] = kriging.transform == Transform::log ? std::log(all.values[0][i]) : all.values[0][i];
+  }
+
+  // Rows and summary, in sample order (independent of threads).
+  const KrigingEngine finisher(all, model, kriging, neighbourhood);
+  CrossValidationSummary& s = result.summary;
+  s.samples = n;
+  s.folds = options.folds;
+  double se = 0, sae = 0, sse = 0, sz = 0, szz = 0;
+  std::vector<double> obs, est;
+  for (std::size_t i = 0; i < n; ++i) {
+    CrossValidationRow& r = result.rows[i];
+    const NodeEstimate& e = estimates[i];
+    r.id = all.ids[i];
+    r.point = all.points[i];
+    r.observed = all.values[0][i];
+    r.neighbours = e.neighbours;
+    r.status = e.status;
+    s.counts.count(e.status);
+    r.ok = e.ok();
+    if (!r.ok) {
+      r.estimate = r.variance = r.error = r.standardised_error = std::nan("");
+      continue;
+    }
+    const NodeOutput o = finisher.finish(e);
+    r.estimate = o.estimate;
+    r.variance = e.variance;
+    r.error = r.estimate - r.observed;
+    r.standardised_error = e.variance > 0 ? (e.estimate - kriged[i]) / std::sqrt(e.variance) : std::nan("");
+    ++s.estimated;
+    se += r.error;
+    sae += std::abs(r.error);
+    sse += r.error * r.error;
+    if (std::isfinite(r.standardised_error)) {
+      sz += r.standardised_error;
+      szz += r.standardised_error * r.standardised_error;
+    }
+    obs.push_back(r.observed);
+    est.push_back(r.estimate);
+  }
+  if (s.estimated > 0) {
+    const double m = static_cast<double>(s.estimated);
+    s.mean_error = se / m;
+    s.mean_absolute_error = sae / m;
+    s.rmse = std::sqrt(sse / m);
+    s.mean_standardised_error = sz / m;
+    s.mean_squared_standardised_error = szz / m;
+    const double mo = std::accumulate(obs.begin(), obs.end(), 0.0) / m;
+    const double me = std::accumulate(est.begin(), est.end(), 0.0) / m;
+    double soo = 0, see = 0, soe = 0;
+    for (std::size_t k = 0; k < obs.size(); ++k) {
+      soo += (obs[k] - mo) * (obs[k] - mo);
+      see += (est[k] - me) * (est[k] - me);
+      soe += (obs[k] - mo) * (est[k] - me);
+    }
+    s.correlation = soo > 0 && see > 0 ? soe / std::sqrt(soo * see) : std::nan("");
+  }
+  s.counts.threads = threads;
+  s.counts.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  s.counts.warnings = describe(s.counts);
+  return result;
+}
+
+std::string crossval_csv(const CrossValidationResult& r, int dimension) {
+  std::ostringstream out;
+  out << "id,x,y,z,observed,estimate,variance,error,standardised_error,neighbours\n";
+  for (const auto& row : r.rows) {
+    // The id is the row number alone ("14" for "line 14", "7" for "feature 7").
+    const std::string id = row.id.substr(row.id.find(' ') + 1);
+    out << id << "," << num(row.point.x) << "," << num(row.point.y) << ","
+        << (dimension == 3 ? num(row.point.z) : "") << "," << num(row.observed) << ","
+        << num(row.estimate) << "," << num(row.variance) << "," << num(row.error) << ","
+        << num(row.standardised_error) << "," << row.neighbours << "\n";
+  }
+  return out.str();
+}
+
+std::string crossval_summary_json(const CrossValidationResult& r) {
+  const auto& s = r.summary;
+  auto n = [](double v) { return std::isfinite(v) ? nlohmann::json(v) : nlohmann::json(); };
+  nlohmann::json j = {{"samples", s.samples},
+                      {"estimated", s.estimated},
+                      {"method", s.folds >= 2 ? "k-fold" : "leave-one-out"},
+                      {"folds", s.folds},
+                      {"mean_error", n(s.mean_error)},
+                      {"mean_absolute_error", n(s.mean_absolute_error)},
+                      {"rmse", n(s.rmse)},
+                      {"mean_standardised_error", n(s.mean_standardised_error)},
+                      {"mean_squared_standardised_error", n(s.mean_squared_standardised_error)},
+                      {"correlation", n(s.correlation)},
+                      {"warnings", s.counts.warnings}};
+  return j.dump(2);
+}
+
+std::string crossval_summary_text(const CrossValidationResult& r) {
+  const auto& s = r.summary;
+  std::ostringstream out;
+  out << "Cross-validation (" << (s.folds >= 2 ? std::to_string(s.folds) + "-fold" : "leave-one-out")
+      << "): " << s.estimated << " of " << s.samples << " samples estimated\n";
+  auto line = [&out](const char* label, double v, const char* ideal) {
+    out << "  " << std::left << std::setw(36) << label << std::right << std::setw(14)
+        << std::setprecision(6) << v << "   " << ideal << "\n";
+  };
+  line("mean error (ME)", s.mean_error, "ideally 0");
+  line("mean absolute error (MAE)", s.mean_absolute_error, "");
+  line("root mean squared error (RMSE)", s.rmse, "");
+  line("mean standardised error", s.mean_standardised_error, "ideally 0");
+  line("mean squared standardised error", s.mean_squared_standardised_error, "ideally 1");
+  line("correlation observed-estimated", s.correlation, "");
+  return out.str();
+}
+
+}  // namespace sillstone

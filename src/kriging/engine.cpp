@@ -1,0 +1,556 @@
+// The kriging engine: one system per target. See kriging.hpp for the
+// systems and docs/kriging.md for their derivation and sources.
+#include <gdal_priv.h>
+#include <ogr_spatialref.h>
+
+#include <Eigen/Dense>
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <sstream>
+
+#include "kriging/dense.hpp"
+#include "sillstone/error.hpp"
+#include "sillstone/kriging.hpp"
+#include "sillstone/names.hpp"
+#include "sillstone/summary.hpp"
+
+namespace sillstone {
+namespace {
+
+constexpr const char* kComponent = "kriging";
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+// Relative pivot below which a system counts as singular or badly
+// conditioned: about 1e-12 of a diagonal entry loses all but ~4 digits.
+constexpr double kPivotTol = 1e-12;
+
+std::string fmt(double v) {
+  std::ostringstream s;
+  s.precision(10);
+  s << v;
+  return s.str();
+}
+
+int drift_columns(const KrigingOptions& o, int dimension) {
+  if (o.method == KrigingMethod::simple) return 0;
+  int p = 1;
+  const Drift d = o.method == KrigingMethod::universal && o.drift == Drift::none ? Drift::linear
+                                                                                 : o.drift;
+  if (o.method == KrigingMethod::universal) {
+    p += dimension;
+    if (d == Drift::quadratic) p += dimension * (dimension + 1) / 2;
+  }
+  if (!o.external_drift.empty()) ++p;
+  return p;
+}
+
+}  // namespace
+
+// --- External drift raster, held in memory -----------------------------------------
+struct KrigingEngine::External {
+  std::vector<double> data;
+  std::int64_t nx = 0, ny = 0;
+  double gt[6] = {};
+  bool has_nodata = false;
+  double nodata = 0;
+  std::string crs_wkt;
+
+  // The value of the cell holding (x, y); NaN outside or on nodata.
+  double at(double x, double y) const {
+    const double col = (x - gt[0]) / gt[1];
+    const double row = (y - gt[3]) / gt[5];
+    if (!(col >= 0) || !(row >= 0) || col >= static_cast<double>(nx) || row >= static_cast<double>(ny))
+      return kNaN;
+    const double v = data[static_cast<std::size_t>(row) * static_cast<std::size_t>(nx) +
+                          static_cast<std::size_t>(col)];
+    return (has_nodata && v == nodata) || !std::isfinite(v) ? kNaN : v;
+  }
+};
+
+bool KrigingOptions::is_valid(int dimension, const CovarianceModel& model, std::string* why) const {
+  auto fail = [why](const std::string& text) {
+    if (why) *why = text;
+    return false;
+  };
+  if (method == KrigingMethod::simple && !model.has_sill())
+    return fail("a power model has no sill, so it has no covariance: simple kriging needs one "
+                "(use --method ordinary)");
+  if (method == KrigingMethod::simple && !external_drift.empty())
+    return fail("--external-drift needs --method ordinary or universal");
+  if (method != KrigingMethod::universal && drift != Drift::none)
+    return fail("--drift needs --method universal");
+  if (!std::isnan(mean) && method != KrigingMethod::simple)
+    return fail("--mean is for --method simple only");
+  if (!std::isnan(mean) && !std::isfinite(mean)) return fail("--mean must be a finite number");
+  if (transform != Transform::none && transform != Transform::log)
+    return fail("kriging supports --transform none or log");
+  if (transform == Transform::log &&
+      (method == KrigingMethod::universal || !external_drift.empty()))
+    return fail("--transform log is supported with simple and ordinary kriging only (the "
+                "unbiased back-transform of docs/kriging.md is defined for those)");
+  if (!block.empty()) {
+    if (static_cast<int>(block.size()) != dimension)
+      return fail("--block takes " + std::string(dimension == 3 ? "DX,DY,DZ" : "DX,DY") +
+                  " for " + std::to_string(dimension) + "D data");
+    for (double b : block)
+      if (!(b > 0) || !std::isfinite(b)) return fail("--block sizes must be positive");
+  }
+  if (!discretise.empty()) {
+    if (block.empty()) return fail("--discretise needs --block");
+    if (static_cast<int>(discretise.size()) != dimension)
+      return fail("--discretise takes one count per axis (" + std::to_string(dimension) + ")");
+    long total = 1;
+    for (int d : discretise) {
+      if (d < 1 || d > 64) return fail("--discretise counts must be between 1 and 64");
+      total *= d;
+    }
+    if (total > 4096) return fail("--discretise gives more than 4096 points per block");
+  }
+  if (!std::isnan(threshold)) {
+    if (!std::isfinite(threshold)) return fail("--threshold must be a finite number");
+    if (transform == Transform::log && !(threshold > 0))
+      return fail("--threshold must be positive with --transform log");
+  }
+  if (threads < 0) return fail("--threads must be >= 0 (0: every core)");
+  return true;
+}
+
+void KrigingSummary::count(NodeEstimate::Status s) {
+  ++targets;
+  switch (s) {
+    case NodeEstimate::Status::ok: ++estimated; break;
+    case NodeEstimate::Status::too_few_neighbours: ++too_few_neighbours; break;
+    case NodeEstimate::Status::singular: ++singular; break;
+    case NodeEstimate::Status::drift_unresolved: ++drift_unresolved; break;
+    case NodeEstimate::Status::outside_drift: ++outside_drift; break;
+  }
+}
+
+// --- Per-thread workspace ------------------------------------------------------------
+std::unique_ptr<KrigingEngine::Workspace> KrigingEngine::make_workspace() const {
+  auto ws = std::make_unique<Workspace>();
+  const std::size_t n = search_->options().global
+                            ? points_.size()
+                            : static_cast<std::size_t>(search_->options().max_points);
+  const auto p = static_cast<std::size_t>(drift_terms_);
+  ws->nb.reserve(n);
+  ws->factored_nb.reserve(n);
+  ws->L.reserve(n * n);
+  ws->F.reserve(n * p);
+  ws->B.reserve(n * p);
+  ws->S.reserve(p * p);
+  for (auto* v : {&ws->k, &ws->a, &ws->lambda}) v->reserve(n);
+  for (auto* v : {&ws->f0, &ws->r, &ws->drift}) v->reserve(p);
+  return ws;
+}
+
+// --- Construction ------------------------------------------------------------------------
+KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& model,
+                             const KrigingOptions& options,
+                             const NeighbourhoodOptions& neighbourhood, std::size_t column)
+    : model_(model), options_(options), dimension_(samples.dimension) {
+  std::string why;
+  if (!options.is_valid(dimension_, model, &why)) throw InputError(kComponent, why);
+  if (!neighbourhood.is_valid(dimension_, &why)) throw InputError(kComponent, why);
+  if (column >= samples.values.size()) throw InputError(kComponent, "no such value column");
+  if (model.dimension() == 3 && dimension_ == 2)
+    throw InputError(kComponent, "the model has 3D anisotropy (dip, plunge or ratio2) but the "
+                                 "samples are 2D (give --z)");
+
+  // Values on the kriged scale; samples without a value are left out.
+  std::vector<std::size_t> used;
+  const auto& raw = samples.values[column];
+  for (std::size_t i = 0; i < raw.size(); ++i) {
+    if (std::isnan(raw[i])) continue;
+    double v = raw[i];
+    if (options.transform == Transform::log) {
+      if (!(v > 0))
+        throw InputError(kComponent, InputLocation{samples.source, samples.ids[i],
+                                                   samples.value_names[column]},
+                         "--transform log needs positive values (got " + fmt(v) + ")");
+      v = std::log(v);
+    }
+    used.push_back(i);
+    values_.push_back(v);
+  }
+  drift_terms_ = drift_columns(options, dimension_);
+  const std::size_t needed = std::max<std::size_t>(static_cast<std::size_t>(drift_terms_) + 1, 1);
+  if (values_.size() < needed)
+    throw InputError(kComponent, samples.source + ": " + std::to_string(values_.size()) +
+                                     " sample(s) with a value; " + std::string(name_of(options.method)) +
+                                     " kriging with these drift terms needs at least " +
+                                     std::to_string(needed));
+
+  // Centre the coordinates (UTM-scale northings keep their precision).
+  double sx = 0, sy = 0, sz = 0;
+  for (std::size_t i : used) {
+    sx += samples.points[i].x;
+    sy += samples.points[i].y;
+    sz += samples.points[i].z;
+  }
+  const auto n = static_cast<double>(used.size());
+  origin_ = {sx / n, sy / n, dimension_ == 3 ? sz / n : 0.0};
+  double half_extent = 0;
+  for (std::size_t i : used) {
+    const Point& p = samples.points[i];
+    points_.push_back({p.x - origin_.x, p.y - origin_.y, dimension_ == 3 ? p.z - origin_.z : 0.0});
+    half_extent = std::max({half_extent, std::abs(points_.back().x), std::abs(points_.back().y),
+                            std::abs(points_.back().z)});
+  }
+  drift_scale_ = half_extent > 0 ? half_extent : 1.0;
+
+  // Block discretisation: offsets of the points from the block centre.
+  if (options.block.empty()) {
+    discretisation_.push_back({0, 0, 0});
+  } else {
+    std::vector<int> nd = options.discretise;
+    if (nd.empty()) nd.assign(static_cast<std::size_t>(dimension_), 4);  // common practice
+    const int nz = dimension_ == 3 ? nd[2] : 1;
+    for (int iz = 0; iz < nz; ++iz)
+      for (int iy = 0; iy < nd[1]; ++iy)
+        for (int ix = 0; ix < nd[0]; ++ix)
+          discretisation_.push_back(
+              {((ix + 0.5) / nd[0] - 0.5) * options.block[0],
+               ((iy + 0.5) / nd[1] - 0.5) * options.block[1],
+               dimension_ == 3 ? ((iz + 0.5) / nz - 0.5) * options.block[2] : 0.0});
+  }
+  double c00 = 0;
+  for (const auto& d1 : discretisation_)
+    for (const auto& d2 : discretisation_) c00 += cov(d1.x - d2.x, d1.y - d2.y, d1.z - d2.z);
+  target_variance_ = c00 / static_cast<double>(discretisation_.size() * discretisation_.size());
+
+  // External drift: the raster's value at each sample.
+  if (!options.external_drift.empty()) {
+    GDALAllRegister();
+    std::unique_ptr<GDALDataset> ds(GDALDataset::Open(options.external_drift.c_str(),
+                                                      GDAL_OF_RASTER | GDAL_OF_READONLY, nullptr,
+                                                      nullptr, nullptr));
+    if (!ds)
+      throw InputError(kComponent, options.external_drift +
+                                       ": cannot be read as a raster (--external-drift)");
+    auto ext = std::make_unique<External>();
+    if (ds->GetGeoTransform(ext->gt) != CE_None || ext->gt[2] != 0 || ext->gt[4] != 0)
+      throw InputError(kComponent, options.external_drift +
+                                       ": needs a north-up geotransform (--external-drift)");
+    if (const OGRSpatialReference* srs = ds->GetSpatialRef()) {
+      if (!samples.crs_wkt.empty()) {
+        OGRSpatialReference mine;
+        mine.importFromWkt(samples.crs_wkt.c_str());
+        if (!srs->IsSame(&mine))
+          throw InputError(kComponent, options.external_drift + ": its CRS (" +
+                                           std::string(srs->GetName()) +
+                                           ") differs from the samples' (" + samples.crs_name +
+                                           "); reproject one of them");
+      }
+    }
+    ext->nx = ds->GetRasterXSize();
+    ext->ny = ds->GetRasterYSize();
+    if (static_cast<double>(ext->nx) * static_cast<double>(ext->ny) > 2e8)
+      throw InputError(kComponent, options.external_drift +
+                                       ": too large to hold in memory (over 200 million cells)");
+    GDALRasterBand* band = ds->GetRasterBand(1);
+    int has = 0;
+    ext->nodata = band->GetNoDataValue(&has);
+    ext->has_nodata = has != 0;
+    ext->data.resize(static_cast<std::size_t>(ext->nx * ext->ny));
+    if (band->RasterIO(GF_Read, 0, 0, static_cast<int>(ext->nx), static_cast<int>(ext->ny),
+                       ext->data.data(), static_cast<int>(ext->nx), static_cast<int>(ext->ny),
+                       GDT_Float64, 0, 0, nullptr) != CE_None)
+      throw InputError(kComponent, options.external_drift + ": cannot be read");
+    external_raster_ = std::move(ext);
+    for (std::size_t k = 0; k < used.size(); ++k) {
+      const Point& p = samples.points[used[k]];
+      const double v = external_raster_->at(p.x, p.y);
+      if (std::isnan(v))
+        throw InputError(kComponent, InputLocation{samples.source, samples.ids[used[k]], ""},
+                         "the sample lies outside the external drift raster (or on nodata): " +
+                             options.external_drift);
+      external_.push_back(v);
+    }
+  }
+
+  // A drift the samples cannot fix (e.g. all on one line for a linear drift)
+  // is refused here rather than failing at every node.
+  if (drift_terms_ > 1) {
+    Eigen::MatrixXd f(static_cast<Eigen::Index>(points_.size()), drift_terms_);
+    std::vector<double> row(static_cast<std::size_t>(drift_terms_));
+    for (std::size_t i = 0; i < points_.size(); ++i) {
+      drift_row(points_[i], external_.empty() ? 0.0 : external_[i], row.data());
+      for (int c = 0; c < drift_terms_; ++c) f(static_cast<Eigen::Index>(i), c) = row[static_cast<std::size_t>(c)];
+    }
+    Eigen::ColPivHouseholderQR<Eigen::MatrixXd> qr(f);
+    qr.setThreshold(1e-10);
+    if (qr.rank() < drift_terms_)
+      throw InputError(kComponent,
+                       "the drift terms cannot be told apart on these samples (rank " +
+                           std::to_string(qr.rank()) + " of " + std::to_string(drift_terms_) +
+                           "): e.g. samples on one line cannot fix a linear drift, or the "
+                           "external drift is constant at the samples");
+  }
+
+  // Simple kriging mean: given, or the declustered mean of the kriged values.
+  if (options.method == KrigingMethod::simple) {
+    if (std::isnan(options.mean)) {
+      std::vector<Point> pts;
+      for (std::size_t i : used) pts.push_back(samples.points[i]);
+      const DeclusteringResult d = decluster(pts, values_, dimension_, {});
+      mean_ = d.mean;
+      notes_.push_back("simple kriging mean " + fmt(mean_) +
+                       (options.transform == Transform::log ? " (log scale)" : "") +
+                       ": the cell-declustered sample mean (cell " + fmt(d.cell) +
+                       "); give --mean to set it");
+    } else {
+      mean_ = options.mean;
+    }
+  }
+  if (!model.has_sill())
+    notes_.push_back("the power model has no sill: systems use the generalised covariance "
+                     "-gamma(h), valid because the weights sum to one");
+
+  search_ = std::make_unique<NeighbourSearch>(points_, dimension_, neighbourhood,
+                                              Eigen::Matrix3d::Identity());
+}
+
+KrigingEngine::~KrigingEngine() = default;
+
+double KrigingEngine::cov(double dx, double dy, double dz) const {
+  return model_.has_sill() ? model_.covariance(dx, dy, dz) : -model_.variogram(dx, dy, dz);
+}
+
+void KrigingEngine::drift_row(const Point& c, double external, double* f) const {
+  int i = 0;
+  f[i++] = 1.0;
+  if (options_.method == KrigingMethod::universal) {
+    const double x = c.x / drift_scale_, y = c.y / drift_scale_, z = c.z / drift_scale_;
+    f[i++] = x;
+    f[i++] = y;
+    if (dimension_ == 3) f[i++] = z;
+    if (options_.drift == Drift::quadratic) {
+      f[i++] = x * x;
+      f[i++] = y * y;
+      f[i++] = x * y;
+      if (dimension_ == 3) {
+        f[i++] = z * z;
+        f[i++] = x * z;
+        f[i++] = y * z;
+      }
+    }
+  }
+  if (!options_.external_drift.empty()) f[i++] = external;
+}
+
+double KrigingEngine::external_at(const Point& p) const {
+  return external_raster_ ? external_raster_->at(p.x, p.y) : kNaN;
+}
+
+// --- One target ---------------------------------------------------------------------------
+NodeEstimate KrigingEngine::estimate(const Point& target, Workspace& ws, std::int64_t exclude,
+                                     double external,
+                                     std::vector<std::pair<std::uint32_t, double>>* weights) const {
+  NodeEstimate e;
+  e.target_variance = target_variance_;
+  if (external_raster_ && std::isnan(external)) {
+    e.status = NodeEstimate::Status::outside_drift;
+    return e;
+  }
+  const Point t{target.x - origin_.x, target.y - origin_.y,
+                dimension_ == 3 ? target.z - origin_.z : 0.0};
+  const std::size_t n = search_->find(t, ws.nb, ws.search, exclude);
+  e.neighbours = static_cast<int>(n);
+  const auto p = static_cast<std::size_t>(drift_terms_);
+  const auto min_points = static_cast<std::size_t>(
+      search_->options().global ? 1 : search_->options().min_points);
+  if (n < std::max<std::size_t>(min_points, p + (p > 0 ? 1 : 0)) || n == 0) {
+    e.status = n < min_points ? NodeEstimate::Status::too_few_neighbours
+                              : NodeEstimate::Status::drift_unresolved;
+    return e;
+  }
+
+  if (!model_.has_sill()) return estimate_intrinsic(t, ws, external, weights, e);
+
+  // Factorise K (and the drift's Schur complement) unless the neighbour set
+  // is the one factorised last: neighbouring nodes often share it.
+  if (!ws.have_factor || ws.nb != ws.factored_nb) {
+    ws.factored_nb = ws.nb;
+    ws.have_factor = true;
+    ws.factor_status = NodeEstimate::Status::ok;
+    ws.L.resize(n * n);
+    for (std::size_t j = 0; j < n; ++j) {
+      const Point& pj = points_[ws.nb[j]];
+      for (std::size_t i = j; i < n; ++i) {
+        const Point& pi = points_[ws.nb[i]];
+        ws.L[j * n + i] = cov(pi.x - pj.x, pi.y - pj.y, pi.z - pj.z);
+      }
+    }
+    if (!detail::cholesky(ws.L.data(), n, kPivotTol)) {
+      ws.factor_status = NodeEstimate::Status::singular;
+    } else if (p > 0) {
+      ws.F.resize(n * p);
+      ws.B.resize(n * p);
+      ws.drift.resize(p);
+      for (std::size_t i = 0; i < n; ++i) {
+        const std::uint32_t s = ws.nb[i];
+        drift_row(points_[s], external_.empty() ? 0.0 : external_[s], ws.drift.data());
+        for (std::size_t c = 0; c < p; ++c) ws.F[c * n + i] = ws.drift[c];
+      }
+      std::copy(ws.F.begin(), ws.F.end(), ws.B.begin());
+      for (std::size_t c = 0; c < p; ++c) detail::cholesky_solve(ws.L.data(), n, ws.B.data() + c * n);
+      ws.S.resize(p * p);
+      for (std::size_t c = 0; c < p; ++c)
+        for (std::size_t r = c; r < p; ++r) {
+          double s = 0;
+          for (std::size_t i = 0; i < n; ++i) s += ws.F[r * n + i] * ws.B[c * n + i];
+          ws.S[c * p + r] = s;
+        }
+      if (!detail::cholesky(ws.S.data(), p, 1e-10)) ws.factor_status = NodeEstimate::Status::drift_unresolved;
+    }
+  }
+  if (ws.factor_status != NodeEstimate::Status::ok) {
+    e.status = ws.factor_status;
+    return e;
+  }
+
+  right_hand_side(t, ws, external);
+  ws.a.assign(ws.k.begin(), ws.k.end());
+  detail::cholesky_solve(ws.L.data(), n, ws.a.data());  // a = K^-1 k
+  ws.lambda.assign(ws.a.begin(), ws.a.end());
+  double mu_f0 = 0;
+  if (p > 0) {
+    ws.r.resize(p);  // r = F'a - f0, then mu = S^-1 r
+    for (std::size_t c = 0; c < p; ++c) {
+      double s = 0;
+      for (std::size_t i = 0; i < n; ++i) s += ws.F[c * n + i] * ws.a[i];
+      ws.r[c] = s - ws.f0[c];
+    }
+    detail::cholesky_solve(ws.S.data(), p, ws.r.data());
+    for (std::size_t c = 0; c < p; ++c) {
+      for (std::size_t i = 0; i < n; ++i) ws.lambda[i] -= ws.B[c * n + i] * ws.r[c];
+      mu_f0 += ws.r[c] * ws.f0[c];
+    }
+    e.lagrange = ws.r[0];
+  }
+
+  complete(ws, mu_f0, weights, e);
+  return e;
+}
+
+void KrigingEngine::right_hand_side(const Point& t, Workspace& ws, double external) const {
+  const std::size_t n = ws.nb.size();
+  const auto p = static_cast<std::size_t>(drift_terms_);
+  const double nd = static_cast<double>(discretisation_.size());
+  ws.k.assign(n, 0.0);
+  for (std::size_t i = 0; i < n; ++i) {
+    const Point& pi = points_[ws.nb[i]];
+    double s = 0;
+    for (const Point& d : discretisation_)
+      s += cov(pi.x - (t.x + d.x), pi.y - (t.y + d.y), pi.z - (t.z + d.z));
+    ws.k[i] = s / nd;
+  }
+  ws.f0.assign(p, 0.0);
+  ws.drift.resize(p);
+  if (p == 0) return;
+  for (const Point& d : discretisation_) {
+    drift_row({t.x + d.x, t.y + d.y, t.z + d.z}, external, ws.drift.data());
+    for (std::size_t c = 0; c < p; ++c) ws.f0[c] += ws.drift[c] / nd;
+  }
+}
+
+// Intrinsic (power) models have no covariance: the bordered system with the
+// generalised covariance -gamma is not positive definite, so it is solved
+// whole by LU with partial pivoting. Slower (it allocates), but rare.
+NodeEstimate KrigingEngine::estimate_intrinsic(
+    const Point& t, Workspace& ws, double external,
+    std::vector<std::pair<std::uint32_t, double>>* weights, NodeEstimate& e) const {
+  const std::size_t n = ws.nb.size();
+  const auto p = static_cast<std::size_t>(drift_terms_);
+  const auto m = static_cast<Eigen::Index>(n + p);
+  Eigen::MatrixXd a = Eigen::MatrixXd::Zero(m, m);
+  Eigen::VectorXd b(m);
+  right_hand_side(t, ws, external);
+  for (std::size_t i = 0; i < n; ++i) {
+    const Point& pi = points_[ws.nb[i]];
+    for (std::size_t j = 0; j < n; ++j) {
+      const Point& pj = points_[ws.nb[j]];
+      a(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = cov(pi.x - pj.x, pi.y - pj.y, pi.z - pj.z);
+    }
+    drift_row(pi, external_.empty() ? 0.0 : external_[ws.nb[i]], ws.drift.data());
+    for (std::size_t c = 0; c < p; ++c) {
+      a(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(n + c)) = ws.drift[c];
+      a(static_cast<Eigen::Index>(n + c), static_cast<Eigen::Index>(i)) = ws.drift[c];
+    }
+    b(static_cast<Eigen::Index>(i)) = ws.k[i];
+  }
+  for (std::size_t c = 0; c < p; ++c) b(static_cast<Eigen::Index>(n + c)) = ws.f0[c];
+  const Eigen::PartialPivLU<Eigen::MatrixXd> lu(a);
+  if (!(lu.rcond() > kPivotTol)) {
+    e.status = NodeEstimate::Status::singular;
+    return e;
+  }
+  const Eigen::VectorXd x = lu.solve(b);
+  ws.lambda.assign(x.data(), x.data() + n);
+  double mu_f0 = 0;
+  for (std::size_t c = 0; c < p; ++c) mu_f0 += x(static_cast<Eigen::Index>(n + c)) * ws.f0[c];
+  e.lagrange = x(static_cast<Eigen::Index>(n));
+  complete(ws, mu_f0, weights, e);
+  return e;
+}
+
+// Estimate, variance and the figures that follow from the weights.
+void KrigingEngine::complete(const Workspace& ws, double mu_f0,
+                             std::vector<std::pair<std::uint32_t, double>>* weights,
+                             NodeEstimate& e) const {
+  const std::size_t n = ws.nb.size();
+  const bool simple = drift_terms_ == 0;
+  double est = 0, lk = 0;
+  for (std::size_t i = 0; i < n; ++i) {
+    const double z = values_[ws.nb[i]];
+    est += ws.lambda[i] * (simple ? z - mean_ : z);
+    lk += ws.lambda[i] * ws.k[i];
+  }
+  e.estimate = simple ? mean_ + est : est;
+  e.weighted_cov = lk;
+  e.weights_var = lk - mu_f0;  // lambda'K lambda, since K lambda = k - F mu and F'lambda = f0
+  double var = target_variance_ - lk - mu_f0;
+  // Rounding can leave a tiny negative variance at data locations.
+  double scale = std::abs(target_variance_);  // the size of the numbers in the system
+  for (double c : ws.k) scale = std::max(scale, std::abs(c));
+  if (var < 0 && var > -1e-9 * scale) var = 0;
+  e.variance = var;
+  e.status = std::isfinite(e.estimate) && std::isfinite(var) && var >= 0
+                 ? NodeEstimate::Status::ok
+                 : NodeEstimate::Status::singular;
+  if (weights) {
+    weights->clear();
+    for (std::size_t i = 0; i < n; ++i) weights->push_back({ws.nb[i], ws.lambda[i]});
+  }
+}
+
+NodeOutput KrigingEngine::finish(const NodeEstimate& e) const {
+  NodeOutput o;
+  if (!e.ok()) return o;
+  const double sd = std::sqrt(e.variance);
+  auto above = [sd](double mean, double t) {  // P(N(mean, sd^2) > t)
+    if (sd == 0) return mean > t ? 1.0 : 0.0;
+    return 0.5 * std::erfc((t - mean) / (sd * std::sqrt(2.0)));
+  };
+  o.variance = e.variance;
+  if (options_.transform == Transform::log) {
+    // Lognormal back-transform (docs/kriging.md): simple kriging
+    // exp(y* + s^2/2); ordinary kriging exp(y* + s^2/2 + mu) with mu the
+    // Lagrange multiplier of the covariance-form system (Journel &
+    // Huijbregts 1978; Webster & Oliver 2007 write it -psi in variogram form).
+    o.estimate = std::exp(e.estimate + e.variance / 2 +
+                          (options_.method == KrigingMethod::simple ? 0.0 : e.lagrange));
+    if (!std::isnan(options_.threshold)) o.probability = above(e.estimate, std::log(options_.threshold));
+  } else {
+    o.estimate = e.estimate;
+    if (!std::isnan(options_.threshold)) o.probability = above(e.estimate, options_.threshold);
+  }
+  if (e.weights_var > 0) o.slope = e.weighted_cov / e.weights_var;
+  if (model_.has_sill() && e.target_variance > 0)
+    o.efficiency = (e.target_variance - e.variance) / e.target_variance;
+  return o;
+}
+
+}  // namespace sillstone

@@ -1,0 +1,299 @@
+// The kriging engine: a published worked example, dense-solve references,
+// and the textbook properties of kriging.
+#include <catch2/catch.hpp>
+
+#include <Eigen/Dense>
+
+#include <cmath>
+#include <random>
+
+#include "sillstone/error.hpp"
+#include "sillstone/kriging.hpp"
+#include "test_support.hpp"
+
+using namespace sillstone;
+
+namespace {
+
+SampleSet make_set(const std::vector<Point>& pts, const std::vector<double>& values, int dim = 2) {
+  SampleSet s;
+  s.source = "test";
+  s.dimension = dim;
+  s.points = pts;
+  s.values = {values};
+  s.censored = {std::vector<unsigned char>(values.size(), 0)};
+  s.value_names = {"v"};
+  for (std::size_t i = 0; i < pts.size(); ++i) {
+    s.ids.push_back("line " + std::to_string(i + 2));
+    s.row_numbers.push_back(static_cast<std::int64_t>(i + 2));
+  }
+  return s;
+}
+
+NeighbourhoodOptions global() {
+  NeighbourhoodOptions n;
+  n.global = true;
+  return n;
+}
+
+// The same system solved the plain way: the full bordered matrix, dense LU.
+struct Dense {
+  Eigen::VectorXd weights;
+  double estimate, variance;
+};
+Dense dense_solve(const CovarianceModel& m, const std::vector<Point>& pts, const std::vector<double>& z,
+                  const Point& t, int drift_terms, double mean = 0) {
+  const auto n = static_cast<Eigen::Index>(pts.size());
+  const Eigen::Index p = drift_terms;
+  Eigen::MatrixXd a = Eigen::MatrixXd::Zero(n + p, n + p);
+  Eigen::VectorXd b = Eigen::VectorXd::Zero(n + p);
+  for (Eigen::Index i = 0; i < n; ++i) {
+    for (Eigen::Index j = 0; j < n; ++j)
+      a(i, j) = m.covariance(pts[i].x - pts[j].x, pts[i].y - pts[j].y);
+    b(i) = m.covariance(pts[i].x - t.x, pts[i].y - t.y);
+    const double f[3] = {1, pts[i].x, pts[i].y};
+    for (Eigen::Index c = 0; c < p; ++c) a(i, n + c) = a(n + c, i) = f[c];
+  }
+  const double f0[3] = {1, t.x, t.y};
+  for (Eigen::Index c = 0; c < p; ++c) b(n + c) = f0[c];
+  const Eigen::VectorXd x = a.fullPivLu().solve(b);
+  Dense d;
+  d.weights = x.head(n);
+  d.estimate = p == 0 ? mean : 0;
+  for (Eigen::Index i = 0; i < n; ++i) d.estimate += x(i) * (p == 0 ? z[static_cast<std::size_t>(i)] - mean : z[static_cast<std::size_t>(i)]);
+  d.variance = m.covariance(0, 0) - x.head(n).dot(b.head(n)) - x.tail(p).dot(b.tail(p));
+  return d;
+}
+
+}  // namespace
+
+// Isaaks & Srivastava (1989), An Introduction to Applied Geostatistics,
+// ch. 12: ordinary kriging of seven samples with the covariance 10 exp(-0.3h)
+// (exponential, sill 10, practical range 10, no nugget). The published
+// weights, estimate and variance are recalled from memory; the dense solve
+// below confirms them independently.
+TEST_CASE("the ordinary kriging worked example of Isaaks & Srivastava (1989)", "[kriging]") {
+  const std::vector<Point> pts = {{61, 139, 0}, {63, 140, 0}, {64, 129, 0}, {68, 128, 0},
+                                  {71, 140, 0}, {73, 141, 0}, {75, 128, 0}};
+  const std::vector<double> z = {477, 696, 227, 646, 606, 791, 783};
+  const CovarianceModel model = parse_model_spec("10 exponential(range=10)");
+  const SampleSet s = make_set(pts, z);
+  const KrigingEngine engine(s, model, {}, global());
+  auto ws = engine.make_workspace();
+  std::vector<std::pair<std::uint32_t, double>> w;
+  const NodeEstimate e = engine.estimate({65, 137, 0}, *ws, -1, 0, &w);
+  REQUIRE(e.ok());
+  const double published[7] = {0.173, 0.318, 0.129, 0.086, 0.151, 0.057, 0.086};
+  REQUIRE(w.size() == 7);
+  for (const auto& [i, weight] : w) CHECK(weight == Approx(published[i]).margin(0.0006));
+  CHECK(e.estimate == Approx(592.7).margin(0.05));
+  CHECK(e.variance == Approx(8.96).margin(0.005));
+
+  const Dense d = dense_solve(model, pts, z, {65, 137, 0}, 1);
+  CHECK(e.estimate == Approx(d.estimate).epsilon(1e-12));
+  CHECK(e.variance == Approx(d.variance).epsilon(1e-12));
+}
+
+TEST_CASE("simple, ordinary and universal kriging equal a dense solve", "[kriging]") {
+  const auto data = test::make_synthetic(60, 5, 1000.0);
+  const CovarianceModel model = parse_model_spec("0.3 nugget + 2 spherical(range=400) + 1 gaussian(range=250)");
+  const SampleSet s = make_set(data.points, data.a);
+  struct Case {
+    KrigingMethod method;
+    int drift_terms;
+  };
+  for (const Case c : {Case{KrigingMethod::simple, 0}, Case{KrigingMethod::ordinary, 1},
+                       Case{KrigingMethod::universal, 3}}) {
+    KrigingOptions o;
+    o.method = c.method;
+    if (c.method == KrigingMethod::simple) o.mean = 9.5;
+    const KrigingEngine engine(s, model, o, global());
+    auto ws = engine.make_workspace();
+    for (const Point t : {Point{123, 456, 0}, Point{900, 20, 0}, Point{-200, 1300, 0}}) {
+      const NodeEstimate e = engine.estimate(t, *ws);
+      REQUIRE(e.ok());
+      const Dense d = dense_solve(model, data.points, data.a, t, c.drift_terms, 9.5);
+      CHECK(e.estimate == Approx(d.estimate).epsilon(1e-10));
+      CHECK(e.variance == Approx(d.variance).epsilon(1e-10));
+    }
+  }
+}
+
+TEST_CASE("kriging is exact at data locations, nugget or not", "[kriging]") {
+  const auto data = test::make_synthetic(40, 9, 500.0);
+  const SampleSet s = make_set(data.points, data.a);
+  for (const char* spec : {"1 exponential(range=200)", "0.5 nugget + 1 spherical(range=300)"}) {
+    const KrigingEngine engine(s, parse_model_spec(spec), {}, global());
+    auto ws = engine.make_workspace();
+    for (std::size_t i = 0; i < 40; i += 7) {
+      const NodeEstimate e = engine.estimate(data.points[i], *ws);
+      REQUIRE(e.ok());
+      CHECK(e.estimate == Approx(data.a[i]).epsilon(1e-10));
+      CHECK(e.variance == Approx(0.0).margin(1e-9));
+    }
+  }
+}
+
+TEST_CASE("ordinary kriging weights sum to one", "[kriging]") {
+  const auto data = test::make_synthetic(80, 12, 1000.0);
+  const SampleSet s = make_set(data.points, data.a);
+  NeighbourhoodOptions local;
+  local.max_points = 16;
+  const KrigingEngine engine(s, parse_model_spec("0.2 nugget + 1 exponential(range=300, azimuth=40, ratio=0.5)"), {}, local);
+  auto ws = engine.make_workspace();
+  std::vector<std::pair<std::uint32_t, double>> w;
+  for (const Point t : {Point{500, 500, 0}, Point{10, 990, 0}}) {
+    REQUIRE(engine.estimate(t, *ws, -1, 0, &w).ok());
+    double sum = 0;
+    for (const auto& pr : w) sum += pr.second;
+    CHECK(sum == Approx(1.0).epsilon(1e-12));
+    CHECK(w.size() == 16);
+  }
+}
+
+// The scale behaviour of covariance: data times k give estimates times k and
+// variances times k^2 (model sills times k^2), with the weights unchanged.
+TEST_CASE("scaling the data scales estimates by k and variances by k^2", "[kriging]") {
+  const auto data = test::make_synthetic(50, 21, 1000.0);
+  const double k = 37.5;
+  std::vector<double> scaled = data.a;
+  for (auto& v : scaled) v *= k;
+  const KrigingEngine base(make_set(data.points, data.a), parse_model_spec("0.1 nugget + 2 spherical(range=350)"), {}, global());
+  const KrigingEngine big(make_set(data.points, scaled),
+                          parse_model_spec("140.625 nugget + 2812.5 spherical(range=350)"), {}, global());
+  auto w1 = base.make_workspace();
+  auto w2 = big.make_workspace();
+  std::vector<std::pair<std::uint32_t, double>> l1, l2;
+  const NodeEstimate a = base.estimate({400, 600, 0}, *w1, -1, 0, &l1);
+  const NodeEstimate b = big.estimate({400, 600, 0}, *w2, -1, 0, &l2);
+  CHECK(b.estimate == Approx(k * a.estimate).epsilon(1e-12));
+  CHECK(b.variance == Approx(k * k * a.variance).epsilon(1e-10));
+  for (std::size_t i = 0; i < l1.size(); ++i) CHECK(l2[i].second == Approx(l1[i].second).epsilon(1e-10));
+}
+
+TEST_CASE("universal kriging reproduces a pure linear trend", "[kriging]") {
+  const auto data = test::make_synthetic(30, 4, 1000.0);
+  std::vector<double> plane;
+  for (const auto& p : data.points) plane.push_back(120.0 + 0.02 * p.x - 0.035 * p.y);
+  KrigingOptions o;
+  o.method = KrigingMethod::universal;
+  o.drift = Drift::linear;
+  NeighbourhoodOptions local;
+  local.max_points = 12;
+  const KrigingEngine engine(make_set(data.points, plane), parse_model_spec("1 spherical(range=500)"), o, local);
+  auto ws = engine.make_workspace();
+  for (const Point t : {Point{250, 250, 0}, Point{1500, -300, 0}}) {
+    const NodeEstimate e = engine.estimate(t, *ws);
+    REQUIRE(e.ok());
+    CHECK(e.estimate == Approx(120.0 + 0.02 * t.x - 0.035 * t.y).epsilon(1e-10));
+  }
+}
+
+TEST_CASE("block kriging: 1x1 discretisation is point kriging; variance falls with size", "[kriging]") {
+  const auto data = test::make_synthetic(60, 31, 1000.0);
+  const SampleSet s = make_set(data.points, data.a);
+  const CovarianceModel model = parse_model_spec("0.2 nugget + 1 spherical(range=300)");
+  const Point t{480, 520, 0};
+  const KrigingEngine point(s, model, {}, global());
+  auto ws = point.make_workspace();
+  const NodeEstimate p = point.estimate(t, *ws);
+  KrigingOptions o;
+  o.block = {50, 50};
+  o.discretise = {1, 1};
+  const KrigingEngine one(s, model, o, global());
+  auto ws1 = one.make_workspace();
+  const NodeEstimate b1 = one.estimate(t, *ws1);
+  CHECK(b1.estimate == Approx(p.estimate).epsilon(1e-13));
+  CHECK(b1.variance == Approx(p.variance).epsilon(1e-13));
+  double previous = p.variance;
+  for (double size : {25.0, 50.0, 100.0, 200.0}) {
+    KrigingOptions ob;
+    ob.block = {size, size};
+    const KrigingEngine blocks(s, model, ob, global());
+    auto wsb = blocks.make_workspace();
+    const NodeEstimate e = blocks.estimate(t, *wsb);
+    REQUIRE(e.ok());
+    CHECK(e.variance < previous);
+    previous = e.variance;
+  }
+}
+
+TEST_CASE("refusals: power with simple kriging, log of zero, collinear drift", "[kriging]") {
+  const auto data = test::make_synthetic(20, 2, 100.0);
+  KrigingOptions simple;
+  simple.method = KrigingMethod::simple;
+  CHECK_THROWS_WITH(KrigingEngine(make_set(data.points, data.a), parse_model_spec("1 power(exponent=1.5)"), simple, global()),
+                    Catch::Contains("power model"));
+  std::vector<double> with_zero = data.a;
+  with_zero[3] = 0;
+  KrigingOptions log;
+  log.transform = Transform::log;
+  CHECK_THROWS_WITH(KrigingEngine(make_set(data.points, with_zero), parse_model_spec("1 spherical(range=50)"), log, global()),
+                    Catch::Contains("line 5, column 'v'"));
+  std::vector<Point> line;
+  for (int i = 0; i < 10; ++i) line.push_back({i * 10.0, i * 5.0, 0});
+  KrigingOptions uk;
+  uk.method = KrigingMethod::universal;
+  CHECK_THROWS_WITH(KrigingEngine(make_set(line, std::vector<double>(10, 1.0)), parse_model_spec("1 spherical(range=50)"), uk, global()),
+                    Catch::Contains("one line"));
+}
+
+TEST_CASE("the power model krigs through the generalised covariance", "[kriging]") {
+  const auto data = test::make_synthetic(25, 8, 100.0);
+  const KrigingEngine engine(make_set(data.points, data.a), parse_model_spec("0.01 power(exponent=1.2)"), {}, global());
+  auto ws = engine.make_workspace();
+  const NodeEstimate at = engine.estimate(data.points[4], *ws);
+  REQUIRE(at.ok());
+  CHECK(at.estimate == Approx(data.a[4]).epsilon(1e-9));
+  CHECK(at.variance == Approx(0).margin(1e-9));
+  std::vector<std::pair<std::uint32_t, double>> w;
+  const NodeEstimate off = engine.estimate({50, 50, 0}, *ws, -1, 0, &w);
+  REQUIRE(off.ok());
+  double sum = 0;
+  for (const auto& pr : w) sum += pr.second;
+  CHECK(sum == Approx(1.0).epsilon(1e-10));
+  CHECK(off.variance > 0);
+}
+
+// Monte Carlo check of the lognormal back-transform of ordinary kriging
+// (Journel & Huijbregts 1978): with Y Gaussian of unknown mean and Z = exp(Y),
+// Z* = exp(Y*_OK + s^2/2 + mu) is unbiased for Z(x0). A wrong sign of mu
+// would bias it by a factor exp(2 mu), far outside the tolerance here.
+TEST_CASE("the lognormal ordinary-kriging back-transform is unbiased", "[kriging]") {
+  const std::vector<Point> pts = {{0, 0, 0}, {100, 0, 0}, {0, 100, 0}, {30, 160, 0}, {150, 120, 0}};
+  const Point target{400, 400, 0};  // far from the data: a large Lagrange multiplier
+  const CovarianceModel model = parse_model_spec("0.5 exponential(range=600)");
+  const std::size_t n = pts.size();
+  Eigen::MatrixXd c(n + 1, n + 1);
+  std::vector<Point> all = pts;
+  all.push_back(target);
+  for (std::size_t i = 0; i <= n; ++i)
+    for (std::size_t j = 0; j <= n; ++j)
+      c(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = model.covariance(all[i].x - all[j].x, all[i].y - all[j].y);
+  const Eigen::MatrixXd l = c.llt().matrixL();
+  KrigingOptions o;
+  o.transform = Transform::log;
+  const KrigingEngine engine(make_set(pts, std::vector<double>(n, 1.0)), model, o, global());
+  auto ws = engine.make_workspace();
+  const NodeEstimate probe = engine.estimate(target, *ws);
+  REQUIRE(std::abs(probe.lagrange) > 0.05);
+  // Weights do not depend on the data: apply them to simulated log values.
+  std::vector<std::pair<std::uint32_t, double>> w;
+  engine.estimate(target, *ws, -1, 0, &w);
+  std::mt19937_64 rng(42);
+  std::normal_distribution<double> g(0, 1);
+  const int runs = 200000;
+  double sum_est = 0, sum_true = 0;
+  Eigen::VectorXd u(n + 1);
+  for (int r = 0; r < runs; ++r) {
+    for (Eigen::Index i = 0; i <= static_cast<Eigen::Index>(n); ++i) u(i) = g(rng);
+    const Eigen::VectorXd y = (l * u).array() + 1.0;  // mean 1, "unknown" to kriging
+    double ystar = 0;
+    for (const auto& [i, weight] : w) ystar += weight * y(i);
+    sum_est += std::exp(ystar + probe.variance / 2 + probe.lagrange);
+    sum_true += std::exp(y(static_cast<Eigen::Index>(n)));
+  }
+  // Both means estimate exp(1 + 0.25) = 3.49; their standard errors are ~0.5 %.
+  CHECK(sum_est / runs == Approx(std::exp(1.25)).epsilon(0.02));
+  CHECK(sum_true / runs == Approx(std::exp(1.25)).epsilon(0.02));
+}
