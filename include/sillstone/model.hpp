@@ -23,6 +23,7 @@
 // methods may be called from several threads at once. They do not allocate.
 #pragma once
 
+#include <array>
 #include <string>
 #include <vector>
 
@@ -143,6 +144,13 @@ class CovarianceModel {
   double total_sill_ = 0;
   double nugget_ = 0;
 };
+
+/// The shape of a search ellipse (ellipsoid) that follows the anisotropy of
+/// the model's longest-range structure: a row-major 3 x 3 matrix M such that
+/// |M h| is the lag h's distance measured in units of that structure's major
+/// axis (|M h| = |h| along the major axis, |h| / ratio along the minor one).
+/// The identity when no structure has a range (nugget, power only).
+std::array<double, 9> search_shape(const CovarianceModel& model);
 
 /// Reads a model written in the SPEC syntax of docs/models.md, e.g.
 /// "0.2 nugget + 1.1 spherical(range=450)". Throws InputError("model", ...)

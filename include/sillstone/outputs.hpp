@@ -53,6 +53,9 @@ class PendingOutput {
 void write_text_output(const std::string& path, const std::string& text, bool overwrite,
                        const std::string& component);
 
+/// Draws progress on stderr in GDAL's convention ("0...10...20...100 - done.").
+void draw_terminal_progress(double fraction);
+
 /// Installs SIGINT/SIGTERM handlers that delete pending temporary files and
 /// exit with 128 + signal number. Call once at program start.
 void install_interrupt_cleanup();

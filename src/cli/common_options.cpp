@@ -1,8 +1,11 @@
 #include "cli/common_options.hpp"
 
+#include <unistd.h>
+
 #include <iostream>
 
 #include "sillstone/names.hpp"
+#include "sillstone/outputs.hpp"
 
 namespace sillstone::cli {
 
@@ -41,6 +44,53 @@ void add_output_options(CLI::App& verb, OutputArgs& a) {
   verb.add_flag("--json", a.json, "Print the results as JSON");
   verb.add_flag("-q,--quiet", a.quiet, "No progress messages");
 }
+
+void add_neighbourhood_options(CLI::App& verb, NeighbourhoodOptions& o) {
+  verb.add_option("--max-points", o.max_points, "Most samples in each kriging system")
+      ->default_str(std::to_string(o.max_points));
+  verb.add_option("--min-points", o.min_points,
+                  "Fewest samples: with fewer found the node is left unestimated (nodata)")
+      ->default_str(std::to_string(o.min_points));
+  verb.add_option("--radius", o.radius,
+                  "Search radius along the model's major axis (default: unlimited)");
+  verb.add_option("--sectors", o.sectors, "1 (none), 4 (2D quadrants) or 8 (3D octants)")
+      ->default_str("1");
+  verb.add_option("--max-per-sector", o.max_per_sector, "Most samples from one sector (0: no limit)");
+  verb.add_flag("--global", o.global, "Every sample in every system (small data sets)");
+}
+
+void add_kriging_options(CLI::App& verb, KrigingArgs& a) {
+  KrigingOptions& o = a.options;
+  verb.add_option("--model", a.model, "Covariance model: a model.json file or a SPEC string")
+      ->required();
+  verb.add_option("--method", a.method, "simple, ordinary or universal")->default_str("ordinary");
+  verb.add_option("--mean", o.mean,
+                  "Simple kriging mean (default: the declustered sample mean, stated)");
+  verb.add_option("--drift", a.drift, "Universal kriging drift: linear (default) or quadratic");
+  verb.add_option("--external-drift", o.external_drift,
+                  "Raster whose value is a drift term (kriging with an external drift)");
+  verb.add_option("--block", o.block, "Block size DX,DY[,DZ] (default: point kriging)")
+      ->delimiter(',');
+  verb.add_option("--discretise", o.discretise, "Block discretisation NX,NY[,NZ] (default 4 each)")
+      ->delimiter(',');
+  verb.add_option("--transform", a.transform, "none or log (lognormal kriging)")
+      ->default_str("none");
+  verb.add_option("--threshold", o.threshold,
+                  "Also give the probability of exceeding this value");
+  verb.add_option("--threads", o.threads, "Threads (0: every core)")->default_str("0");
+}
+
+KrigingOptions resolve(const KrigingArgs& a) {
+  KrigingOptions o = a.options;
+  o.method = parse_name<KrigingMethod>(a.method, "--method");
+  o.drift = a.drift.empty() ? Drift::none : parse_name<Drift>(a.drift, "--drift");
+  o.transform = parse_name<Transform>(a.transform, "--transform");
+  return o;
+}
+
+bool show_progress(const OutputArgs& a) { return !a.quiet && ::isatty(STDERR_FILENO); }
+
+void draw_progress(double fraction) { draw_terminal_progress(fraction); }
 
 void print_warnings(const std::vector<std::string>& warnings) {
   for (const auto& w : warnings) std::cerr << "warning: " << w << "\n";

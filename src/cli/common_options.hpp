@@ -5,6 +5,8 @@
 
 #include <string>
 
+#include "sillstone/kriging.hpp"
+#include "sillstone/neighbourhood.hpp"
 #include "sillstone/samples.hpp"
 
 namespace sillstone::cli {
@@ -30,6 +32,28 @@ struct OutputArgs {
   bool quiet = false;
 };
 void add_output_options(CLI::App& verb, OutputArgs& args);
+
+/// The neighbourhood options shared by `krige` and `crossval`.
+void add_neighbourhood_options(CLI::App& verb, NeighbourhoodOptions& options);
+
+/// The kriging options shared by `krige` and `crossval` (method, mean,
+/// drift, external drift, block, transform, threshold, threads), with the
+/// model, bound to strings first so enumerations are checked by names.cpp.
+struct KrigingArgs {
+  std::string model;
+  KrigingOptions options;
+  std::string method = "ordinary";
+  std::string drift;
+  std::string transform = "none";
+};
+void add_kriging_options(CLI::App& verb, KrigingArgs& args);
+/// The KrigingOptions after the enumerations were parsed (throws InputError).
+KrigingOptions resolve(const KrigingArgs& args);
+
+/// True when progress should be drawn: stderr is a terminal and not --quiet.
+bool show_progress(const OutputArgs& args);
+/// GDAL's terminal progress convention ("0...10...20...").
+void draw_progress(double fraction);
 
 /// Prints each warning as one "warning: ..." line on stderr.
 void print_warnings(const std::vector<std::string>& warnings);

@@ -23,6 +23,8 @@ int main(int argc, char** argv) {
 
   std::vector<cli::VerbRunner> verbs;
   verbs.push_back(cli::add_inspect(app));
+  verbs.push_back(cli::add_crossval(app));
+  verbs.push_back(cli::add_krige(app));
 
   try {
     app.parse(argc, argv);

@@ -13,5 +13,7 @@ namespace sillstone::cli {
 using VerbRunner = std::function<int()>;
 
 VerbRunner add_inspect(CLI::App& app);
+VerbRunner add_crossval(CLI::App& app);
+VerbRunner add_krige(CLI::App& app);
 
 }  // namespace sillstone::cli

@@ -11,6 +11,7 @@
 
 #include <nlohmann/json.hpp>
 
+#include "core/format.hpp"
 #include "sillstone/crossval.hpp"
 #include "sillstone/error.hpp"
 
@@ -39,13 +40,7 @@ SampleSet with_values(const SampleSet& s, std::size_t column, const std::vector<
   return out;
 }
 
-std::string num(double v) {
-  if (!std::isfinite(v)) return "";
-  std::ostringstream s;
-  s.precision(17);
-  s << v;
-  return s.str();
-}
+std::string num(double v) { return detail::shortest(v); }
 
 }  // namespace
 

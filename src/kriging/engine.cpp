@@ -308,8 +308,11 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
     notes_.push_back("the power model has no sill: systems use the generalised covariance "
                      "-gamma(h), valid because the weights sum to one");
 
-  search_ = std::make_unique<NeighbourSearch>(points_, dimension_, neighbourhood,
-                                              Eigen::Matrix3d::Identity());
+  // The search ellipse follows the anisotropy of the longest structure.
+  const auto shape = search_shape(model);
+  Eigen::Matrix3d m;
+  m << shape[0], shape[1], shape[2], shape[3], shape[4], shape[5], shape[6], shape[7], shape[8];
+  search_ = std::make_unique<NeighbourSearch>(points_, dimension_, neighbourhood, m);
 }
 
 KrigingEngine::~KrigingEngine() = default;

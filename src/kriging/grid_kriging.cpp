@@ -14,6 +14,7 @@
 #include <memory>
 #include <sstream>
 
+#include "core/format.hpp"
 #include "sillstone/error.hpp"
 #include "sillstone/kriging.hpp"
 #include "sillstone/outputs.hpp"
@@ -26,13 +27,6 @@ constexpr const char* kComponent = "krige";
 
 int thread_count(int requested) {
   return requested > 0 ? requested : std::max(1, omp_get_max_threads());
-}
-
-std::string shortest(double v) {
-  std::ostringstream s;
-  s.precision(15);
-  s << v;
-  return s.str();
 }
 
 // Mask polygons, rasterised onto each block of rows.
@@ -134,7 +128,7 @@ void tally(const std::vector<NodeEstimate>& block, KrigingSummary& s) {
 
 }  // namespace
 
-std::string probability_name(double threshold) { return "probability_above_" + shortest(threshold); }
+std::string probability_name(double threshold) { return "probability_above_" + detail::shortest(threshold); }
 
 std::vector<std::string> describe(const KrigingSummary& s) {
   std::vector<std::string> out;
@@ -228,7 +222,6 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
   if (ext == ".csv") {
     csv.open(out.temp_path(), std::ios::binary);
     if (!csv) throw std::runtime_error("cannot write " + out.temp_path());
-    csv.precision(17);
     for (std::size_t c = 0; c < columns.size(); ++c) csv << (c ? "," : "") << columns[c];
     csv << "\n";
   } else {
@@ -272,7 +265,7 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
           if (c) csv << ",";
           if (c == 2 && grid.dimension == 2) continue;
           if (c == 5) csv << e.neighbours;
-          else if (std::isfinite(v[c])) csv << v[c];
+          else csv << detail::shortest(v[c]);
         }
         csv << "\n";
       } else {

@@ -224,4 +224,16 @@ double CovarianceModel::correlation(double distance) const {
   return covariance(distance) / total_sill_;
 }
 
+std::array<double, 9> search_shape(const CovarianceModel& model) {
+  std::array<double, 9> m = {1, 0, 0, 0, 1, 0, 0, 0, 1};
+  const Structure* longest = nullptr;
+  for (const auto& s : model.structures())
+    if (s.range > 0 && (!longest || s.range > longest->range)) longest = &s;
+  if (!longest) return m;
+  const detail::CompiledStructure c = detail::compile(*longest);
+  for (int r = 0; r < 3; ++r)
+    for (int k = 0; k < 3; ++k) m[static_cast<std::size_t>(3 * r + k)] = c.reduce[r][k] * longest->range;
+  return m;
+}
+
 }  // namespace sillstone

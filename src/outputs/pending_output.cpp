@@ -3,6 +3,7 @@
 // The signal handler may only use async-signal-safe calls, so pending
 // temporary paths live in a fixed table of character buffers with an atomic
 // "in use" flag per slot; the handler unlinks every slot in use and _exits.
+#include <cpl_progress.h>
 #include <unistd.h>
 
 #include <array>
@@ -113,6 +114,8 @@ void write_text_output(const std::string& path, const std::string& text, bool ov
   }
   out.commit();
 }
+
+void draw_terminal_progress(double fraction) { GDALTermProgress(fraction, nullptr, nullptr); }
 
 void install_interrupt_cleanup() {
   struct sigaction sa {};

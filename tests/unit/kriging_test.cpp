@@ -297,3 +297,19 @@ TEST_CASE("the lognormal ordinary-kriging back-transform is unbiased", "[kriging
   CHECK(sum_est / runs == Approx(std::exp(1.25)).epsilon(0.02));
   CHECK(sum_true / runs == Approx(std::exp(1.25)).epsilon(0.02));
 }
+
+TEST_CASE("the search ellipse follows the longest structure's anisotropy", "[kriging]") {
+  const CovarianceModel m =
+      parse_model_spec("0.1 nugget + 1 spherical(range=100) + 1 exponential(range=800, azimuth=30, ratio=0.25)");
+  const auto s = search_shape(m);
+  auto length = [&s](double dx, double dy) {
+    const double u = s[0] * dx + s[1] * dy, v = s[3] * dx + s[4] * dy, w = s[6] * dx + s[7] * dy;
+    return std::sqrt(u * u + v * v + w * w);
+  };
+  const double t = 30.0 * M_PI / 180.0;
+  CHECK(length(std::sin(t) * 500, std::cos(t) * 500) == Approx(500.0).epsilon(1e-12));  // major axis
+  CHECK(length(std::cos(t) * 100, -std::sin(t) * 100) == Approx(400.0).epsilon(1e-12));  // minor: / ratio
+  const auto identity = search_shape(parse_model_spec("1 nugget"));
+  CHECK(identity[0] == 1.0);
+  CHECK(identity[4] == 1.0);
+}
