@@ -5,6 +5,8 @@
 
 #include "sillstone/error.hpp"
 #include "sillstone/samples.hpp"
+#include "sillstone/transform.hpp"
+#include "sillstone/variogram.hpp"
 
 namespace sillstone {
 namespace detail {
@@ -28,6 +30,32 @@ struct NameTable<DuplicatePolicy> {
       {DuplicatePolicy::average, "average"},
       {DuplicatePolicy::first, "first"},
       {DuplicatePolicy::error, "error"},
+  }};
+};
+
+template <>
+struct NameTable<Transform> {
+  static constexpr std::array<std::pair<Transform, std::string_view>, 3> entries{{
+      {Transform::none, "none"},
+      {Transform::log, "log"},
+      {Transform::normal_score, "normal-score"},
+  }};
+};
+
+template <>
+struct NameTable<VariogramEstimator> {
+  static constexpr std::array<std::pair<VariogramEstimator, std::string_view>, 2> entries{{
+      {VariogramEstimator::matheron, "matheron"},
+      {VariogramEstimator::cressie_hawkins, "cressie-hawkins"},
+  }};
+};
+
+template <>
+struct NameTable<VariogramStatistic> {
+  static constexpr std::array<std::pair<VariogramStatistic, std::string_view>, 3> entries{{
+      {VariogramStatistic::semivariance, "semivariance"},
+      {VariogramStatistic::covariance, "covariance"},
+      {VariogramStatistic::correlogram, "correlogram"},
   }};
 };
 
@@ -64,6 +92,9 @@ Enum parse_name(std::string_view text, std::string_view what) {
 
 SILLSTONE_NAMED_ENUM(BelowDetection)
 SILLSTONE_NAMED_ENUM(DuplicatePolicy)
+SILLSTONE_NAMED_ENUM(Transform)
+SILLSTONE_NAMED_ENUM(VariogramEstimator)
+SILLSTONE_NAMED_ENUM(VariogramStatistic)
 
 #undef SILLSTONE_NAMED_ENUM
 

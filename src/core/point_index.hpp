@@ -34,7 +34,33 @@ class PointIndex {
     return found;
   }
 
+  /// Calls visit(index, distance) for every sample whose Euclidean distance to
+  /// `query` is at most `radius` (inclusive), the query's own sample included.
+  /// The order is fixed by the tree (not sorted): the same on every call and
+  /// thread. Nothing is stored, so memory does not grow with the neighbours.
+  template <class Visit>
+  void for_each_within(const double* query, double radius, Visit&& visit) const {
+    WithinRadius<Visit> result{radius, visit};
+    tree_->findNeighbors(result, query, nanoflann::SearchParams(32, 0.0f, false));
+  }
+
  private:
+  // nanoflann's radius result set keeps d^2 < r^2 (strict, squared). This one
+  // searches a hair wider, then keeps sqrt(d^2) <= r exactly and hands on the
+  // true distance.
+  template <class Visit>
+  struct WithinRadius {
+    double radius;
+    Visit& visit;
+    double worstDist() const { return radius * radius * (1 + 1e-12); }
+    bool full() const { return true; }
+    bool addPoint(double squared, std::uint32_t index) {
+      const double distance = std::sqrt(squared);
+      if (distance <= radius) visit(index, distance);
+      return true;  // keep searching
+    }
+  };
+
   struct Cloud {
     const std::vector<Point>& points;
     int dimension;
