@@ -3,7 +3,9 @@
 
 #include <CLI/CLI.hpp>
 
+#include <functional>
 #include <string>
+#include <vector>
 
 #include "sillstone/samples.hpp"
 
@@ -33,5 +35,12 @@ void add_output_options(CLI::App& verb, OutputArgs& args);
 
 /// Prints each warning as one "warning: ..." line on stderr.
 void print_warnings(const std::vector<std::string>& warnings);
+
+/// Prints each note as one "note: ..." line on stderr, unless `quiet`.
+void print_notes(const std::vector<std::string>& notes, bool quiet);
+
+/// A progress meter in GDAL's style ("0...10...20...") on stderr when stderr
+/// is a terminal and not `quiet`; otherwise an empty function.
+std::function<void(double)> terminal_progress(bool quiet);
 
 }  // namespace sillstone::cli

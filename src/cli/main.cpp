@@ -21,6 +21,7 @@ int main(int argc, char** argv) {
 
   std::vector<cli::VerbRunner> verbs;
   verbs.push_back(cli::add_inspect(app));
+  verbs.push_back(cli::add_variogram(app));
 
   try {
     app.parse(argc, argv);

@@ -13,5 +13,6 @@ namespace sillstone::cli {
 using VerbRunner = std::function<int()>;
 
 VerbRunner add_inspect(CLI::App& app);
+VerbRunner add_variogram(CLI::App& app);
 
 }  // namespace sillstone::cli
