@@ -28,6 +28,24 @@ constexpr std::uint64_t kFewPairs = 30;      // common practice (Journel & Huijb
 constexpr double kAngleSlack = 1e-9;         // degrees: an angle this close to a tolerance is on it
 constexpr double kDegree = 0.017453292519943295;  // pi / 180
 
+// Sine and cosine of an angle in degrees, exact at multiples of 90 degrees and
+// equal at 45, so that directions along the axes have no rounding noise.
+void sin_cos_degrees(double angle, double* sine, double* cosine) {
+  double r = std::fmod(angle, 360.0);
+  if (r < 0) r += 360;
+  const int quadrant = static_cast<int>(r / 90);
+  const double x = r - 90 * quadrant;
+  double s = std::sin(x * kDegree), c = std::cos(x * kDegree);
+  if (x == 0) {
+    s = 0;
+    c = 1;
+  }
+  if (x == 45) s = c = std::sqrt(0.5);
+  const double turned[4][2] = {{s, c}, {c, -s}, {-s, -c}, {-c, s}};  // + 0, 90, 180, 270
+  *sine = turned[quadrant][0];
+  *cosine = turned[quadrant][1];
+}
+
 // The sums of one lag class in one direction. Values are centred on their
 // mean, which leaves every statistic unchanged and keeps the products small.
 struct Sums {
@@ -99,8 +117,7 @@ std::vector<Direction> make_directions(const VariogramOptions& o, int dimension)
     d.omni = false;
     d.dip = dip;
     d.vertical = dip == 90;
-    d.sin_dip = std::sin(dip * kDegree);
-    d.cos_dip = d.vertical ? 0 : std::cos(dip * kDegree);
+    sin_cos_degrees(dip, &d.sin_dip, &d.cos_dip);
     const double lo = dip - o.dip_tolerance - kAngleSlack, hi = dip + o.dip_tolerance + kAngleSlack;
     d.sin_low = lo <= -90 ? -2 : std::sin(lo * kDegree);
     d.sin_high = hi >= 90 ? 2 : std::sin(hi * kDegree);
@@ -115,8 +132,7 @@ std::vector<Direction> make_directions(const VariogramOptions& o, int dimension)
     d.omni = false;
     d.oriented = true;
     d.azimuth = azimuth;
-    d.ex = std::sin(azimuth * kDegree);
-    d.ey = std::cos(azimuth * kDegree);
+    sin_cos_degrees(azimuth, &d.ex, &d.ey);
     return d;
   };
   const bool vertical_given = std::find(o.dips.begin(), o.dips.end(), 90.0) != o.dips.end();

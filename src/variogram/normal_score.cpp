@@ -9,6 +9,7 @@ namespace sillstone {
 
 double normal_quantile(double p) {
   if (!(p > 0 && p < 1)) return std::numeric_limits<double>::quiet_NaN();
+  if (p == 0.5) return 0;  // exactly, where the iteration would stop a rounding error short
   // Work in the lower tail, where Phi(x) = erfc(-x / sqrt 2) / 2 keeps full
   // relative precision, and mirror for p > 1/2.
   const double q = std::min(p, 1 - p);
