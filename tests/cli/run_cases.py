@@ -9,6 +9,7 @@ Each file in cases/ is one case:
     stderr-lines: 1
     stdout-match: <regex>          (any number of *-match lines; all must match)
     stdout-absent: <regex>         (must not match)
+    out.csv-match: <regex>         (the file out.csv in the case folder, after the run)
     --- bad.csv
     x,y,v
     ...
@@ -71,11 +72,15 @@ def run(exe, path):
             args.append(a)
         p = subprocess.run([exe] + args, capture_output=True, text=True, cwd=tmp, timeout=120)
         created = set(os.listdir(tmp)) - set(case["files"])
+        streams = {"stdout": p.stdout, "stderr": p.stderr}
+        for stream, _ in case["match"] + case["absent"]:
+            if stream not in streams:  # a file the run wrote or should have left alone
+                path = os.path.join(tmp, stream)
+                streams[stream] = open(path, encoding="utf-8").read() if os.path.exists(path) else ""
     problems = []
     want_exit = int(case.get("exit", "0"))
     if p.returncode != want_exit:
         problems.append(f"exit {p.returncode}, expected {want_exit}")
-    streams = {"stdout": p.stdout, "stderr": p.stderr}
     for stream, rx in case["match"]:
         if not re.search(rx, streams[stream], re.MULTILINE):
             problems.append(f"{stream} does not match /{rx}/")
