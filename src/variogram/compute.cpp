@@ -1,8 +1,8 @@
 // The empirical variogram: pair enumeration and the statistics of each class.
 //
 // Order of work: pick the value column and transform it; centre coordinates
-// (and values) so that UTM-scale numbers keep their precision; index the
-// samples in a k-d tree; visit every pair (i, j > i) within the largest
+// (and values) so that UTM-scale numbers keep their precision; put the
+// samples in Z-order for memory locality and index them in a k-d tree; visit every pair (i, j > i) within the largest
 // distance needed, in fixed blocks of samples that OpenMP threads take in
 // turn; each block sums into its own accumulators, which are added to the
 // totals in block order (an `ordered` region), so that every sum is formed in
@@ -151,9 +151,10 @@ std::vector<Direction> make_directions(const VariogramOptions& o, int dimension)
 }
 
 // The class of distance d (0 < d <= edges.back()): edges[k] < d <= edges[k+1].
-std::size_t class_of(double d, const std::vector<double>& edges, double width) {
+// The estimate d / W is corrected against the edges themselves.
+std::size_t class_of(double d, const std::vector<double>& edges, double inverse_width) {
   const std::size_t last = edges.size() - 2;
-  std::size_t k = std::min(last, static_cast<std::size_t>(d / width));
+  std::size_t k = std::min(last, static_cast<std::size_t>(d * inverse_width));
   while (k > 0 && d <= edges[k]) --k;
   while (k < last && d > edges[k + 1]) ++k;
   return k;
@@ -186,6 +187,34 @@ double class_value(const Sums& s, const VariogramOptions& o, bool oriented) {
     }
   }
   return std::nan("");
+}
+
+// The samples in Z-order (Morton order) of their positions on a 2^21 grid, so
+// that samples near in space are near in memory and the pair loop reads
+// memory mostly in order. Ties keep their input order.
+std::vector<std::size_t> spatial_order(const std::vector<Point>& points, int dimension) {
+  Point lo = points.front(), hi = lo;
+  for (const auto& p : points) {
+    lo = {std::min(lo.x, p.x), std::min(lo.y, p.y), std::min(lo.z, p.z)};
+    hi = {std::max(hi.x, p.x), std::max(hi.y, p.y), std::max(hi.z, p.z)};
+  }
+  const double span = std::max({hi.x - lo.x, hi.y - lo.y, hi.z - lo.z});
+  constexpr int kBits = 21;
+  const double scale = span > 0 ? ((1 << kBits) - 1) / span : 0;
+  std::vector<std::uint64_t> key(points.size(), 0);
+  for (std::size_t i = 0; i < points.size(); ++i) {
+    const double c[3] = {points[i].x - lo.x, points[i].y - lo.y, points[i].z - lo.z};
+    for (int d = 0; d < dimension; ++d) {
+      const auto q = static_cast<std::uint64_t>(c[d] * scale);
+      for (int b = 0; b < kBits; ++b)
+        key[i] |= ((q >> b) & 1u) << (dimension * b + d);
+    }
+  }
+  std::vector<std::size_t> order(points.size());
+  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
+  std::stable_sort(order.begin(), order.end(),
+                   [&key](std::size_t a, std::size_t b) { return key[a] < key[b]; });
+  return order;
 }
 
 // Per-block (and total) accumulators: one Sums per direction and class, and
@@ -289,7 +318,7 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
   v.options.lags = static_cast<int>(nclass);
   v.options.max_distance = edges.back();
   v.options.lag = edges.back() / static_cast<double>(nclass);
-  const double width = v.options.lag;
+  const double width = v.options.lag, inverse_width = 1 / width;
 
   // Samples with a value, centred: coordinates on the middle of their extent,
   // values on their mean.
@@ -302,6 +331,17 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
       z.push_back(z_all[i]);
     }
   const std::size_t n = points.size();
+  if (n >= 2) {
+    const std::vector<std::size_t> order = spatial_order(points, dim);
+    std::vector<Point> sorted_points(n);
+    std::vector<double> sorted_z(n);
+    for (std::size_t k = 0; k < n; ++k) {
+      sorted_points[k] = points[order[k]];
+      sorted_z[k] = z[order[k]];
+    }
+    points = std::move(sorted_points);
+    z = std::move(sorted_z);
+  }
   if (n < 2)
     throw InputError(kComponent, samples.source + ": column '" + v.value + "' has " +
                                      std::to_string(n) + " value(s); a variogram needs pairs");
@@ -369,13 +409,13 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
       const std::size_t end = std::min(n, (b + 1) * kBlock);
       for (std::size_t i = b * kBlock; i < end; ++i) {
         const Point& pi = points[i];
-        const double query[3] = {pi.x, pi.y, pi.z};
-        index.for_each_within(query, radius, [&](std::uint32_t j, double d) {
-          if (j <= i || d == 0) return;  // each pair once; coincident samples are no pair
+        index.for_each_pair_with(static_cast<std::uint32_t>(i), radius, [&](std::uint32_t j,
+                                                                            double d) {
+          if (d == 0) return;  // coincident samples are no pair
           const Point& pj = points[j];
           const double dx = pj.x - pi.x, dy = pj.y - pi.y, dz = pj.z - pi.z;
           if (d <= edges.back()) {
-            const std::size_t k = class_of(d, edges, width);
+            const std::size_t k = class_of(d, edges, inverse_width);
             for (std::size_t r = 0; r < ndir; ++r) {
               const int sense = directions[r].test(dx, dy, dz, d);
               if (sense > 0)
