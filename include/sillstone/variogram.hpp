@@ -65,8 +65,8 @@ struct VariogramOptions {
   std::vector<double> azimuths;   ///< degrees clockwise from north, 0 <= a < 360
   double angle_tolerance = 22.5;  ///< degrees either side of each azimuth, 0 < t < 90
   double bandwidth = std::numeric_limits<double>::infinity();  ///< horizontal half-width
-  std::vector<double> dips;       ///< 3D only: degrees down from horizontal, 0..90
-  double dip_tolerance = 22.5;    ///< degrees either side of each dip, 0 < t < 90
+  std::vector<double> dips;     ///< 3D only: degrees down from horizontal, 0..90
+  double dip_tolerance = 22.5;  ///< degrees either side of each dip, 0 < t < 90
   double vertical_bandwidth = std::numeric_limits<double>::infinity();  ///< vertical half-width
 
   VariogramEstimator estimator = VariogramEstimator::matheron;
@@ -101,8 +101,8 @@ struct VariogramRow {
 /// (dx, dy), cells centred on (i c, j c) for i, j = -m..m. Each pair counts at
 /// h and -h, so the surface is point-symmetric.
 struct VariogramSurface {
-  double cell = 0;  ///< c, in CRS units
-  int half = 0;     ///< m
+  double cell = 0;             ///< c, in CRS units
+  int half = 0;                ///< m
   std::vector<double> values;  ///< (2m+1)^2, row by row from dy = +m c (north) down; NaN: no pair
   std::vector<std::uint64_t> pairs;  ///< the same layout
 };
@@ -113,11 +113,11 @@ struct VariogramSummary {
   std::uint64_t pairs = 0;  ///< pairs counted over all classes and directions
   double mean = std::numeric_limits<double>::quiet_NaN();      ///< of the values used (transformed)
   double variance = std::numeric_limits<double>::quiet_NaN();  ///< the same, divisor n - 1
-  std::size_t empty_classes = 0;   ///< classes without a pair
-  std::size_t sparse_classes = 0;  ///< classes with 1..29 pairs
-  std::string transform;           ///< e.g. "none", "log(value + 0.5)", "normal-score"
-  int threads = 0;                 ///< threads used
-  double seconds = 0;              ///< wall time of the pair enumeration
+  std::size_t empty_classes = 0;                               ///< classes without a pair
+  std::size_t sparse_classes = 0;                              ///< classes with 1..29 pairs
+  std::string transform;              ///< e.g. "none", "log(value + 0.5)", "normal-score"
+  int threads = 0;                    ///< threads used
+  double seconds = 0;                 ///< wall time of the pair enumeration
   std::vector<std::string> notes;     ///< facts worth saying, e.g. the transform applied
   std::vector<std::string> warnings;  ///< the loader's and ours; each one sentence
 };
@@ -127,7 +127,7 @@ struct EmpiricalVariogram {
   std::string source;  ///< samples path (empty when read from a variogram file)
   std::string value;   ///< the value column used
   int dimension = 2;
-  VariogramOptions options;  ///< as used: lag, lags and max_distance all filled in
+  VariogramOptions options;        ///< as used: lag, lags and max_distance all filled in
   std::vector<VariogramRow> rows;  ///< direction by direction, classes in order
   NormalScoreTable normal_scores;  ///< with Transform::normal_score: the back-transform table
   std::optional<VariogramSurface> surface;
@@ -163,8 +163,7 @@ void write_variogram_text(std::ostream& out, const EmpiricalVariogram& variogram
 
 /// Writes the CSV (".csv") or JSON (".json") by the extension of `path`,
 /// atomically (see output.hpp).
-void write_variogram(const std::string& path, const EmpiricalVariogram& variogram,
-                     bool overwrite);
+void write_variogram(const std::string& path, const EmpiricalVariogram& variogram, bool overwrite);
 
 /// Writes the surface as a one-band GeoTIFF in lag coordinates (x = dx,
 /// y = dy, CRS units), nodata -9999 for cells without pairs, atomically.

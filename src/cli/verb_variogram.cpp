@@ -30,8 +30,9 @@ std::string advise_lags(const SampleSet& samples, VariogramOptions* o) {
   const SpacingStats spacing = nearest_neighbour_spacing(located, samples.dimension);
   const LagAdvice advice = suggest_lags(located, samples.dimension, spacing.median);
   if (advice.lags < 1)
-    throw InputError("variogram", samples.source + ": no lag classes can be suggested for these "
-                                                   "samples; give --lag and --lags");
+    throw InputError("variogram", samples.source +
+                                      ": no lag classes can be suggested for these "
+                                      "samples; give --lag and --lags");
   if (o->lags > 0) {  // --lags N alone: the suggested reach, cut into N classes
     o->max_distance = advice.max_distance;
     return "no --lag or --max-distance given; using the suggested maximum distance " +
@@ -62,10 +63,10 @@ VerbRunner add_variogram(CLI::App& app) {
   add_sample_options(*verb, args->samples);
   verb->add_option("--lag", o.lag, "Lag class width W (classes (iW, (i+1)W])");
   verb->add_option("--lags", o.lags, "Number of lag classes N");
-  verb->add_option("--max-distance", o.max_distance,
-                   "Largest distance D; alone it gives W = D/" +
-                       std::to_string(VariogramOptions::kDefaultLags) +
-                       ". Without --lag and --max-distance the lags suggested by `inspect` are used");
+  verb->add_option(
+      "--max-distance", o.max_distance,
+      "Largest distance D; alone it gives W = D/" + std::to_string(VariogramOptions::kDefaultLags) +
+          ". Without --lag and --max-distance the lags suggested by `inspect` are used");
   verb->add_option("--statistic", args->statistic, "semivariance, covariance or correlogram")
       ->default_str("semivariance");
   verb->add_option("--azimuths", o.azimuths,
@@ -77,7 +78,8 @@ VerbRunner add_variogram(CLI::App& app) {
       ->default_str("22.5");
   verb->add_option("--bandwidth", o.bandwidth,
                    "Largest offset across a direction (a half-width; default: none)");
-  verb->add_option("--dips", o.dips, "3D: dips, degrees down from horizontal (0..90; 90 = vertical)")
+  verb->add_option("--dips", o.dips,
+                   "3D: dips, degrees down from horizontal (0..90; 90 = vertical)")
       ->delimiter(',');
   verb->add_option("--dip-tolerance", o.dip_tolerance, "Half-angle around each dip, degrees")
       ->default_str("22.5");
@@ -88,7 +90,8 @@ VerbRunner add_variogram(CLI::App& app) {
   verb->add_option("--transform", args->transform, "none, log or normal-score")
       ->default_str("none");
   verb->add_option("--log-offset", o.log_offset, "C in log(value + C) for --transform log");
-  verb->add_option("--surface", args->surface_path, "Also write the 2D variogram surface (GeoTIFF)");
+  verb->add_option("--surface", args->surface_path,
+                   "Also write the 2D variogram surface (GeoTIFF)");
   verb->add_option("--surface-cell", o.surface_cell, "Surface cell size (default: the lag width)");
   verb->add_option("-o,--output", args->output_path,
                    "Write the table to OUT.csv or OUT.json (default: a table on stdout)");

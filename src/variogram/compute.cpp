@@ -2,11 +2,10 @@
 //
 // Order of work: pick the value column and transform it; centre coordinates
 // (and values) so that UTM-scale numbers keep their precision; put the
-// samples in Z-order for memory locality and index them in a k-d tree; visit every pair (i, j > i) within the largest
-// distance needed, in fixed blocks of samples that OpenMP threads take in
-// turn; each block sums into its own accumulators, which are added to the
-// totals in block order (an `ordered` region), so that every sum is formed in
-// the same order whatever the thread count.
+// samples in Z-order for memory locality and index them in a k-d tree; visit every pair (i, j > i)
+// within the largest distance needed, in fixed blocks of samples that OpenMP threads take in turn;
+// each block sums into its own accumulators, which are added to the totals in block order (an
+// `ordered` region), so that every sum is formed in the same order whatever the thread count.
 #include <omp.h>
 
 #include <algorithm>
@@ -23,9 +22,9 @@ namespace sillstone {
 namespace {
 
 constexpr const char* kComponent = "variogram";
-constexpr std::size_t kBlock = 256;          // samples per unit of parallel work
-constexpr std::uint64_t kFewPairs = 30;      // common practice (Journel & Huijbregts 1978, from memory)
-constexpr double kAngleSlack = 1e-9;         // degrees: an angle this close to a tolerance is on it
+constexpr std::size_t kBlock = 256;      // samples per unit of parallel work
+constexpr std::uint64_t kFewPairs = 30;  // common practice (Journel & Huijbregts 1978, from memory)
+constexpr double kAngleSlack = 1e-9;     // degrees: an angle this close to a tolerance is on it
 constexpr double kDegree = 0.017453292519943295;  // pi / 180
 
 // Sine and cosine of an angle in degrees, exact at multiples of 90 degrees and
@@ -88,8 +87,7 @@ struct Direction {
       if (up < sin_low || up > sin_high) return 0;
       const double horizontal = std::sqrt(dx * dx + dy * dy);
       if (vertical) return horizontal <= bandwidth ? 1 : 0;
-      return std::abs(horizontal * sin_dip - std::abs(dz) * cos_dip) <= vertical_bandwidth ? 1
-                                                                                           : 0;
+      return std::abs(horizontal * sin_dip - std::abs(dz) * cos_dip) <= vertical_bandwidth ? 1 : 0;
     }
     const double along = dx * ex + dy * ey, across = std::abs(dx * ey - dy * ex);
     int sense;
@@ -206,8 +204,7 @@ std::vector<std::size_t> spatial_order(const std::vector<Point>& points, int dim
     const double c[3] = {points[i].x - lo.x, points[i].y - lo.y, points[i].z - lo.z};
     for (int d = 0; d < dimension; ++d) {
       const auto q = static_cast<std::uint64_t>(c[d] * scale);
-      for (int b = 0; b < kBits; ++b)
-        key[i] |= ((q >> b) & 1u) << (dimension * b + d);
+      for (int b = 0; b < kBits; ++b) key[i] |= ((q >> b) & 1u) << (dimension * b + d);
     }
   }
   std::vector<std::size_t> order(points.size());
@@ -253,8 +250,9 @@ std::vector<double> transformed_values(const SampleSet& samples, std::size_t col
         const InputLocation where{samples.source, samples.ids[i], name};
         if (o.log_offset == 0)
           throw InputError(kComponent, where,
-                           "the value " + format(z[i]) + " is not positive, so --transform log "
-                           "cannot take it; add --log-offset C to use log(value + C)");
+                           "the value " + format(z[i]) +
+                               " is not positive, so --transform log "
+                               "cannot take it; add --log-offset C to use log(value + C)");
         throw InputError(kComponent, where,
                          "the value " + format(z[i]) + " plus --log-offset " +
                              format(o.log_offset) + " is not positive, so its log is undefined");
@@ -409,34 +407,34 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
       const std::size_t end = std::min(n, (b + 1) * kBlock);
       for (std::size_t i = b * kBlock; i < end; ++i) {
         const Point& pi = points[i];
-        index.for_each_pair_with(static_cast<std::uint32_t>(i), radius, [&](std::uint32_t j,
-                                                                            double d) {
-          if (d == 0) return;  // coincident samples are no pair
-          const Point& pj = points[j];
-          const double dx = pj.x - pi.x, dy = pj.y - pi.y, dz = pj.z - pi.z;
-          if (d <= edges.back()) {
-            const std::size_t k = class_of(d, edges, inverse_width);
-            for (std::size_t r = 0; r < ndir; ++r) {
-              const int sense = directions[r].test(dx, dy, dz, d);
-              if (sense > 0)
-                accumulate(local.classes[r * nclass + k], d, z[i], z[j]);
-              else if (sense < 0)
-                accumulate(local.classes[r * nclass + k], d, z[j], z[i]);
-            }
-          }
-          if (surface) {
-            const long cx = std::lround(std::floor(dx / cell + 0.5));
-            const long cy = std::lround(std::floor(dy / cell + 0.5));
-            if (std::abs(cx) > half || std::abs(cy) > half) return;
-            // h = (dx, dy) and -h; rows run from dy = +half down.
-            accumulate(local.cells[static_cast<std::size_t>((half - cy) * static_cast<long>(side) +
-                                                            (cx + half))],
-                       d, z[i], z[j]);
-            accumulate(local.cells[static_cast<std::size_t>((half + cy) * static_cast<long>(side) +
-                                                            (half - cx))],
-                       d, z[j], z[i]);
-          }
-        });
+        index.for_each_pair_with(
+            static_cast<std::uint32_t>(i), radius, [&](std::uint32_t j, double d) {
+              if (d == 0) return;  // coincident samples are no pair
+              const Point& pj = points[j];
+              const double dx = pj.x - pi.x, dy = pj.y - pi.y, dz = pj.z - pi.z;
+              if (d <= edges.back()) {
+                const std::size_t k = class_of(d, edges, inverse_width);
+                for (std::size_t r = 0; r < ndir; ++r) {
+                  const int sense = directions[r].test(dx, dy, dz, d);
+                  if (sense > 0)
+                    accumulate(local.classes[r * nclass + k], d, z[i], z[j]);
+                  else if (sense < 0)
+                    accumulate(local.classes[r * nclass + k], d, z[j], z[i]);
+                }
+              }
+              if (surface) {
+                const long cx = std::lround(std::floor(dx / cell + 0.5));
+                const long cy = std::lround(std::floor(dy / cell + 0.5));
+                if (std::abs(cx) > half || std::abs(cy) > half) return;
+                // h = (dx, dy) and -h; rows run from dy = +half down.
+                accumulate(local.cells[static_cast<std::size_t>(
+                               (half - cy) * static_cast<long>(side) + (cx + half))],
+                           d, z[i], z[j]);
+                accumulate(local.cells[static_cast<std::size_t>(
+                               (half + cy) * static_cast<long>(side) + (half - cx))],
+                           d, z[j], z[i]);
+              }
+            });
       }
 #pragma omp ordered
       {
@@ -487,14 +485,14 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
     return out;
   };
   if (v.summary.sparse_classes)
-    v.summary.warnings.push_back(
-        std::to_string(v.summary.sparse_classes) + " class(es) hold fewer than " +
-        std::to_string(kFewPairs) + " pairs, too few for a reliable value (common practice; "
-        "Journel & Huijbregts 1978, from memory): " + join(sparse));
+    v.summary.warnings.push_back(std::to_string(v.summary.sparse_classes) +
+                                 " class(es) hold fewer than " + std::to_string(kFewPairs) +
+                                 " pairs, too few for a reliable value (common practice; "
+                                 "Journel & Huijbregts 1978, from memory): " +
+                                 join(sparse));
   if (v.summary.empty_classes)
     v.summary.warnings.push_back(std::to_string(v.summary.empty_classes) +
-                                 " class(es) hold no pair; their values are empty: " +
-                                 join(empty));
+                                 " class(es) hold no pair; their values are empty: " + join(empty));
 
   if (surface) {
     VariogramSurface s;

@@ -34,8 +34,8 @@ double NormalScoreTable::back_transform(double score) const {
   if (values.empty()) return std::numeric_limits<double>::quiet_NaN();
   if (!(score > scores.front())) return values.front();
   if (!(score < scores.back())) return values.back();
-  const auto hi = static_cast<std::size_t>(
-      std::upper_bound(scores.begin(), scores.end(), score) - scores.begin());
+  const auto hi = static_cast<std::size_t>(std::upper_bound(scores.begin(), scores.end(), score) -
+                                           scores.begin());
   const std::size_t lo = hi - 1;
   const double f = (score - scores[lo]) / (scores[hi] - scores[lo]);
   return values[lo] + f * (values[hi] - values[lo]);

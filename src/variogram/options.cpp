@@ -49,7 +49,8 @@ bool VariogramOptions::is_valid(std::string* why) const {
     if (!(a >= 0 && a < 360)) return fail("azimuth " + number(a) + " is not in 0..360 (degrees)");
   for (double d : dips)
     if (!(d >= 0 && d <= 90))
-      return fail("dip " + number(d) + " is not in 0..90 (degrees, positive down; an upward "
+      return fail("dip " + number(d) +
+                  " is not in 0..90 (degrees, positive down; an upward "
                   "direction is the downward one at azimuth + 180)");
   // Pairs are undirected: azimuths a and a + 180 are the same horizontal direction.
   const double period = dips.empty() ? 180 : 360;
@@ -62,8 +63,9 @@ bool VariogramOptions::is_valid(std::string* why) const {
     for (std::size_t j = 0; j < i; ++j)
       if (dips[i] == dips[j]) return fail("dip " + number(dips[i]) + " is given twice");
   if (!(angle_tolerance > 0 && angle_tolerance < 90))
-    return fail("--angle-tolerance must be between 0 and 90 degrees (exclusive); for all "
-                "azimuths give no --azimuths");
+    return fail(
+        "--angle-tolerance must be between 0 and 90 degrees (exclusive); for all "
+        "azimuths give no --azimuths");
   if (!(dip_tolerance > 0 && dip_tolerance < 90))
     return fail("--dip-tolerance must be between 0 and 90 degrees (exclusive)");
   if (!(bandwidth > 0)) return fail("--bandwidth must be a positive distance");
@@ -76,8 +78,9 @@ bool VariogramOptions::is_valid(std::string* why) const {
 
   if (estimator == VariogramEstimator::cressie_hawkins &&
       statistic != VariogramStatistic::semivariance)
-    return fail("--estimator cressie-hawkins estimates semivariance; it does not apply to "
-                "--statistic covariance or correlogram");
+    return fail(
+        "--estimator cressie-hawkins estimates semivariance; it does not apply to "
+        "--statistic covariance or correlogram");
   if (!std::isfinite(log_offset)) return fail("--log-offset must be a finite number");
   if (log_offset != 0 && transform != Transform::log)
     return fail("--log-offset applies only to --transform log");
@@ -88,7 +91,8 @@ bool VariogramOptions::is_valid(std::string* why) const {
     const double cell = surface_cell > 0 ? surface_cell : edges[1];
     if (edges.back() / cell > kMaxSurfaceHalf)
       return fail("the variogram surface would have more than " +
-                  std::to_string(2 * kMaxSurfaceHalf + 1) + " cells a side; use a larger "
+                  std::to_string(2 * kMaxSurfaceHalf + 1) +
+                  " cells a side; use a larger "
                   "--surface-cell");
   }
   if (threads < 0) return fail("--threads must be 0 (every core) or more");
@@ -108,9 +112,12 @@ std::vector<double> VariogramOptions::lag_edges() const {
 
 std::string value_column(VariogramStatistic statistic) {
   switch (statistic) {
-    case VariogramStatistic::covariance: return "covariance";
-    case VariogramStatistic::correlogram: return "correlation";
-    case VariogramStatistic::semivariance: break;
+    case VariogramStatistic::covariance:
+      return "covariance";
+    case VariogramStatistic::correlogram:
+      return "correlation";
+    case VariogramStatistic::semivariance:
+      break;
   }
   return "semivariance";
 }

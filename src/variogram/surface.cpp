@@ -13,8 +13,7 @@
 
 namespace sillstone {
 
-void write_variogram_surface(const std::string& path, const EmpiricalVariogram& v,
-                             bool overwrite) {
+void write_variogram_surface(const std::string& path, const EmpiricalVariogram& v, bool overwrite) {
   if (!v.surface) throw std::logic_error("write_variogram_surface: no surface was computed");
   const VariogramSurface& s = *v.surface;
   static std::once_flag registered;
@@ -36,7 +35,8 @@ void write_variogram_surface(const std::string& path, const EmpiricalVariogram& 
       if (std::isnan(x)) x = kNodata;
     GDALRasterBand* band = ds->GetRasterBand(1);
     band->SetNoDataValue(kNodata);
-    band->SetDescription(("semivariance (" + std::string(name_of(v.options.estimator)) + ")").c_str());
+    band->SetDescription(
+        ("semivariance (" + std::string(name_of(v.options.estimator)) + ")").c_str());
     if (band->RasterIO(GF_Write, 0, 0, side, side, data.data(), side, side, GDT_Float64, 0, 0,
                        nullptr) != CE_None)
       throw std::runtime_error(path + ": writing failed (" + CPLGetLastErrorMsg() + ")");

@@ -280,19 +280,20 @@ std::string variogram_to_json(const EmpiricalVariogram& v) {
   j["samples"] = v.summary.samples;
   j["mean"] = number(v.summary.mean);
   j["variance"] = number(v.summary.variance);
-  j["settings"] = {{"statistic", name_of(o.statistic)},
-                   {"estimator", name_of(o.estimator)},
-                   {"transform", name_of(o.transform)},
-                   {"log_offset", number(o.transform == Transform::log ? o.log_offset : std::nan(""))},
-                   {"lag", o.lag},
-                   {"lags", o.lags},
-                   {"max_distance", o.max_distance},
-                   {"azimuths", o.azimuths},
-                   {"angle_tolerance", o.azimuths.empty() ? json() : json(o.angle_tolerance)},
-                   {"bandwidth", number(o.bandwidth)},
-                   {"dips", o.dips},
-                   {"dip_tolerance", o.dips.empty() ? json() : json(o.dip_tolerance)},
-                   {"vertical_bandwidth", number(o.vertical_bandwidth)}};
+  j["settings"] = {
+      {"statistic", name_of(o.statistic)},
+      {"estimator", name_of(o.estimator)},
+      {"transform", name_of(o.transform)},
+      {"log_offset", number(o.transform == Transform::log ? o.log_offset : std::nan(""))},
+      {"lag", o.lag},
+      {"lags", o.lags},
+      {"max_distance", o.max_distance},
+      {"azimuths", o.azimuths},
+      {"angle_tolerance", o.azimuths.empty() ? json() : json(o.angle_tolerance)},
+      {"bandwidth", number(o.bandwidth)},
+      {"dips", o.dips},
+      {"dip_tolerance", o.dips.empty() ? json() : json(o.dip_tolerance)},
+      {"vertical_bandwidth", number(o.vertical_bandwidth)}};
   json rows = json::array();
   const std::string key = value_column(o.statistic);
   for (const auto& r : v.rows)
@@ -318,12 +319,16 @@ void write_variogram_text(std::ostream& out, const EmpiricalVariogram& v) {
   if (!v.source.empty()) out << " (" << v.source << ")";
   out << "\n";
   out << "Statistic  " << name_of(o.statistic);
-  if (o.statistic == VariogramStatistic::semivariance) out << ", " << name_of(o.estimator) << " estimator";
+  if (o.statistic == VariogramStatistic::semivariance)
+    out << ", " << name_of(o.estimator) << " estimator";
   out << "; transform " << v.summary.transform << "\n";
   out << "Samples    " << v.summary.samples << " (" << v.dimension << "D), mean "
       << std::setprecision(6) << v.summary.mean << ", variance " << v.summary.variance << "\n";
   out << "Lags       " << o.lags << " classes of " << cell(o.lag) << " to " << cell(o.max_distance)
       << "\n";
+  if (v.summary.threads > 0)
+    out << "Pairs      " << v.summary.pairs << " counted in " << std::setprecision(3)
+        << v.summary.seconds << " s on " << v.summary.threads << " thread(s)\n";
   if (!o.azimuths.empty()) {
     out << "Directions angle tolerance " << cell(o.angle_tolerance);
     if (std::isfinite(o.bandwidth)) out << ", bandwidth " << cell(o.bandwidth);
@@ -331,7 +336,8 @@ void write_variogram_text(std::ostream& out, const EmpiricalVariogram& v) {
   }
   if (!o.dips.empty()) {
     out << "Dips       dip tolerance " << cell(o.dip_tolerance);
-    if (std::isfinite(o.vertical_bandwidth)) out << ", vertical bandwidth " << cell(o.vertical_bandwidth);
+    if (std::isfinite(o.vertical_bandwidth))
+      out << ", vertical bandwidth " << cell(o.vertical_bandwidth);
     out << "\n";
   }
   const std::string key = value_column(o.statistic);
@@ -340,10 +346,10 @@ void write_variogram_text(std::ostream& out, const EmpiricalVariogram& v) {
     const std::string label = direction_label(r);
     if (label != current) {
       current = label;
-      out << "\n" << label << "\n"
-          << std::right << std::setw(12) << "lag_from" << std::setw(12) << "lag_to"
-          << std::setw(15) << "mean_distance" << std::setw(10) << "pairs" << std::setw(15) << key
-          << "\n";
+      out << "\n"
+          << label << "\n"
+          << std::right << std::setw(12) << "lag_from" << std::setw(12) << "lag_to" << std::setw(15)
+          << "mean_distance" << std::setw(10) << "pairs" << std::setw(15) << key << "\n";
     }
     auto fmt = [](double x) {
       if (!std::isfinite(x)) return std::string("-");

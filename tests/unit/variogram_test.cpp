@@ -59,8 +59,8 @@ bool same_bits(double a, double b) { return std::memcmp(&a, &b, sizeof a) == 0; 
 TEST_CASE("a pair exactly at lag_to is in that class; coincident samples make no pair",
           "[variogram]") {
   // On a line at x = 0, 10, 20, 25 and a second sample at x = 0.
-  const SampleSet s = make_set({{0, 0, 0}, {10, 0, 0}, {20, 0, 0}, {25, 0, 0}, {0, 0, 0}},
-                               {1, 2, 4, 7, 3});
+  const SampleSet s =
+      make_set({{0, 0, 0}, {10, 0, 0}, {20, 0, 0}, {25, 0, 0}, {0, 0, 0}}, {1, 2, 4, 7, 3});
   const EmpiricalVariogram v = compute_variogram(s, lags(10, 3));
   REQUIRE(v.rows.size() == 3);
   // Distances 10, 10, 5, 10 -> (0, 10]; 20, 15, 20 -> (10, 20]; 25, 25 -> (20, 30].
@@ -206,8 +206,8 @@ TEST_CASE("scaling values by k scales semivariance by k^2; translation changes n
 
 TEST_CASE("3D: dips select pairs by their angle below the horizontal", "[variogram]") {
   // A vertical hole (x = y = 0, z = 0, -2, -4) and a horizontal line at z = 0.
-  const SampleSet s = make_set(
-      {{0, 0, 0}, {0, 0, -2}, {0, 0, -4}, {3, 0, 0}, {6, 0, 0}}, {1, 2, 3, 4, 5}, 3);
+  const SampleSet s =
+      make_set({{0, 0, 0}, {0, 0, -2}, {0, 0, -4}, {3, 0, 0}, {6, 0, 0}}, {1, 2, 3, 4, 5}, 3);
   VariogramOptions o = lags(2, 3);
   o.azimuths = {90};
   o.dips = {0, 90};
@@ -236,14 +236,14 @@ TEST_CASE("a log transform refuses values <= 0 naming the row, unless offset", "
   const SampleSet s = make_set({{0, 0, 0}, {1, 0, 0}, {2, 0, 0}}, {4, 0, 9});
   VariogramOptions o = lags(1, 2);
   o.transform = Transform::log;
-  CHECK_THROWS_WITH(compute_variogram(s, o),
-                    Catch::Contains("test.csv, line 3, column 'v'") &&
-                        Catch::Contains("--log-offset"));
+  CHECK_THROWS_WITH(compute_variogram(s, o), Catch::Contains("test.csv, line 3, column 'v'") &&
+                                                 Catch::Contains("--log-offset"));
   o.log_offset = 1;
   const EmpiricalVariogram v = compute_variogram(s, o);
   // (0,1]: log 5 - log 1 and log 1 - log 10 -> (ln(5)^2 + ln(10)^2) / 4.
-  CHECK(v.rows[0].value ==
-        Approx((std::log(5.0) * std::log(5.0) + std::log(10.0) * std::log(10.0)) / 4).epsilon(1e-14));
+  CHECK(
+      v.rows[0].value ==
+      Approx((std::log(5.0) * std::log(5.0) + std::log(10.0) * std::log(10.0)) / 4).epsilon(1e-14));
   CHECK(v.summary.transform == "log(value + 1)");
 }
 
@@ -317,9 +317,8 @@ TEST_CASE("reading a damaged variogram file names line and column", "[variogram]
                                     "azimuth,dip,lag_from,lag_to,mean_distance,pairs,semivariance\n"
                                     ",,0,10,6.5,40,1.5\n"
                                     ",,10,20,15.2,many,1.9\n");
-  CHECK_THROWS_WITH(read_variogram(csv),
-                    Catch::Contains("bad.csv, line 3, column 'pairs'") &&
-                        Catch::Contains("'many'"));
+  CHECK_THROWS_WITH(read_variogram(csv), Catch::Contains("bad.csv, line 3, column 'pairs'") &&
+                                             Catch::Contains("'many'"));
   const std::string header = dir.write("header.csv", "a,b,c\n");
   CHECK_THROWS_WITH(read_variogram(header), Catch::Contains("line 1"));
   const std::string json = dir.write("bad.json", R"({"rows": [{"azimuth": null, "dip": null,
@@ -359,18 +358,21 @@ TEST_CASE("the variogram surface is symmetric and written as a GeoTIFF", "[vario
   const VariogramSurface& s = *v.surface;
   CHECK(s.half == 4);
   const int side = 9;
-  auto at = [&](int cx, int cy) { return s.values[static_cast<std::size_t>((4 - cy) * side + cx + 4)]; };
-  CHECK(at(0, 3) == 0.0);                          // north: no change
-  CHECK(at(2, 0) == 0.5);                         // 2 steps east: dz = 1, gamma = 1/2
+  auto at = [&](int cx, int cy) {
+    return s.values[static_cast<std::size_t>((4 - cy) * side + cx + 4)];
+  };
+  CHECK(at(0, 3) == 0.0);  // north: no change
+  CHECK(at(2, 0) == 0.5);  // 2 steps east: dz = 1, gamma = 1/2
   CHECK(at(2, 1) == at(-2, -1));
-  CHECK(std::isnan(at(0, 0)));                     // no pair at lag (0, 0)
+  CHECK(std::isnan(at(0, 0)));  // no pair at lag (0, 0)
 
   test::ScratchDir dir;
   const std::string tif = dir.path("surface.tif");
   write_variogram_surface(tif, v, false);
   CHECK_THROWS_AS(write_variogram_surface(tif, v, false), InputError);
   GDALAllRegister();
-  std::unique_ptr<GDALDataset> ds(GDALDataset::Open(tif.c_str(), GDAL_OF_RASTER | GDAL_OF_READONLY));
+  std::unique_ptr<GDALDataset> ds(
+      GDALDataset::Open(tif.c_str(), GDAL_OF_RASTER | GDAL_OF_READONLY));
   REQUIRE(ds);
   CHECK(ds->GetRasterXSize() == side);
   GDALRasterBand* band = ds->GetRasterBand(1);
