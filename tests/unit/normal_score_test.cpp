@@ -44,7 +44,7 @@ TEST_CASE("normal scores are (r - 0.5) / n quantiles, symmetric, ordered", "[nor
   CHECK(ns.table.values == std::vector<double>({1.0, 2.0, 4.0, 7.0, 30.0}));
 }
 
-TEST_CASE("tied values share the score of their mid-rank; missing values stay missing",
+TEST_CASE("tied values share the score of their mid-rank, missing values stay missing",
           "[normal_score]") {
   const std::vector<double> values = {2.0, 1.0, std::nan(""), 2.0, 3.0};
   const NormalScores ns = normal_scores(values);

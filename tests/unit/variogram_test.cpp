@@ -56,7 +56,7 @@ bool same_bits(double a, double b) { return std::memcmp(&a, &b, sizeof a) == 0; 
 
 }  // namespace
 
-TEST_CASE("a pair exactly at lag_to is in that class; coincident samples make no pair",
+TEST_CASE("a pair exactly at lag_to is in that class, coincident samples make no pair",
           "[variogram]") {
   // On a line at x = 0, 10, 20, 25 and a second sample at x = 0.
   const SampleSet s =
@@ -179,7 +179,7 @@ TEST_CASE("results are bit-for-bit the same for 1 and 2 threads", "[variogram]")
   }
 }
 
-TEST_CASE("scaling values by k scales semivariance by k^2; translation changes nothing",
+TEST_CASE("scaling values by k scales semivariance by k^2, translation changes nothing",
           "[variogram]") {
   const SampleSet s = random_set(800, 5);
   VariogramOptions o = lags(50, 10);
