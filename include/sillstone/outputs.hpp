@@ -8,27 +8,28 @@
 // once install_interrupt_cleanup() has run.
 //
 // Example:
-//   sillstone::check_output_path("out/model.json", overwrite, "fit");  // before any work
-//   sillstone::PendingOutput out("out/model.json", overwrite, "fit");
+//   sillstone::check_output_path("out/model.json", overwrite);  // before any work
+//   sillstone::PendingOutput out("out/model.json", overwrite);
 //   write_everything_to(out.temp_path());
 //   out.commit();
 #pragma once
 
+#include <functional>
 #include <string>
 
 namespace sillstone {
 
-/// Refuses (InputError from `component`) an output whose folder does not
+/// Refuses (InputError, component "output") an output whose folder does not
 /// exist, which is a folder itself, or which exists while `overwrite` is false.
 /// Call it for every output before any long work starts.
-void check_output_path(const std::string& path, bool overwrite, const std::string& component);
+void check_output_path(const std::string& path, bool overwrite);
 
 /// One output being written. Not copyable; movable.
 class PendingOutput {
  public:
   /// Checks the path (see check_output_path) and reserves a temporary name
   /// ".<name>.tmp-<pid>-<n>" beside it.
-  PendingOutput(std::string final_path, bool overwrite, const std::string& component);
+  PendingOutput(std::string final_path, bool overwrite);
   ~PendingOutput();  ///< removes the temporary file unless committed
   PendingOutput(PendingOutput&& other) noexcept;
   PendingOutput& operator=(PendingOutput&&) = delete;
@@ -50,11 +51,13 @@ class PendingOutput {
 };
 
 /// Writes `text` to `path` through a PendingOutput.
-void write_text_output(const std::string& path, const std::string& text, bool overwrite,
-                       const std::string& component);
+void write_text_output(const std::string& path, const std::string& text, bool overwrite);
 
-/// Draws progress on stderr in GDAL's convention ("0...10...20...100 - done.").
-void draw_terminal_progress(double fraction);
+/// Calls write(temporary) with the temporary path of a PendingOutput for
+/// `path`, then commits it. If `write` throws, the temporary is removed and
+/// the exception passes on; `path` is left as it was.
+void write_atomically(const std::string& path, bool overwrite,
+                      const std::function<void(const std::string& temporary)>& write);
 
 /// Installs SIGINT/SIGTERM handlers that delete pending temporary files and
 /// exit with 128 + signal number. Call once at program start.

@@ -1,8 +1,10 @@
 #include "cli/common_options.hpp"
 
-#include <unistd.h>
+#include <unistd.h>  // isatty: progress only on a terminal
 
+#include <algorithm>
 #include <iostream>
+#include <memory>
 
 #include "sillstone/names.hpp"
 #include "sillstone/outputs.hpp"
@@ -88,12 +90,30 @@ KrigingOptions resolve(const KrigingArgs& a) {
   return o;
 }
 
-bool show_progress(const OutputArgs& a) { return !a.quiet && ::isatty(STDERR_FILENO); }
-
-void draw_progress(double fraction) { draw_terminal_progress(fraction); }
-
 void print_warnings(const std::vector<std::string>& warnings) {
   for (const auto& w : warnings) std::cerr << "warning: " << w << "\n";
+}
+
+void print_notes(const std::vector<std::string>& notes, bool quiet) {
+  if (quiet) return;
+  for (const auto& n : notes) std::cerr << "note: " << n << "\n";
+}
+
+std::function<void(double)> terminal_progress(bool quiet) {
+  if (quiet || !isatty(STDERR_FILENO)) return {};
+  auto printed = std::make_shared<int>(-1);  // ticks of 2.5% printed so far
+  return [printed](double fraction) {
+    const int ticks = std::min(40, static_cast<int>(fraction * 40 + 1e-9));
+    while (*printed < ticks) {
+      ++*printed;
+      if (*printed % 4 == 0)
+        std::cerr << *printed * 10 / 4;
+      else
+        std::cerr << ".";
+      if (*printed == 40) std::cerr << " - done.\n";
+    }
+    std::cerr << std::flush;
+  };
 }
 
 }  // namespace sillstone::cli

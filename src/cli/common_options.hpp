@@ -3,7 +3,9 @@
 
 #include <CLI/CLI.hpp>
 
+#include <functional>
 #include <string>
+#include <vector>
 
 #include "sillstone/kriging.hpp"
 #include "sillstone/neighbourhood.hpp"
@@ -50,12 +52,14 @@ void add_kriging_options(CLI::App& verb, KrigingArgs& args);
 /// The KrigingOptions after the enumerations were parsed (throws InputError).
 KrigingOptions resolve(const KrigingArgs& args);
 
-/// True when progress should be drawn: stderr is a terminal and not --quiet.
-bool show_progress(const OutputArgs& args);
-/// GDAL's terminal progress convention ("0...10...20...").
-void draw_progress(double fraction);
-
 /// Prints each warning as one "warning: ..." line on stderr.
 void print_warnings(const std::vector<std::string>& warnings);
+
+/// Prints each note as one "note: ..." line on stderr, unless `quiet`.
+void print_notes(const std::vector<std::string>& notes, bool quiet);
+
+/// A progress meter in GDAL's style ("0...10...20...") on stderr when stderr
+/// is a terminal and not `quiet`; otherwise an empty function.
+std::function<void(double)> terminal_progress(bool quiet);
 
 }  // namespace sillstone::cli

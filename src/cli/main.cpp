@@ -25,6 +25,7 @@ int main(int argc, char** argv) {
   verbs.push_back(cli::add_inspect(app));
   verbs.push_back(cli::add_crossval(app));
   verbs.push_back(cli::add_krige(app));
+  verbs.push_back(cli::add_variogram(app));
 
   try {
     app.parse(argc, argv);

@@ -36,7 +36,7 @@ VerbRunner add_crossval(CLI::App& app) {
 
   return [a, verb]() -> int {
     if (!verb->parsed()) return -1;
-    if (!a->output.empty()) check_output_path(a->output, a->overwrite, "crossval");
+    if (!a->output.empty()) check_output_path(a->output, a->overwrite);
     const ModelFile model = load_model(a->kriging.model);
     std::vector<std::string> notes;
     const KrigingOptions options = resolve_with_model(a->kriging, model, &notes);
@@ -45,11 +45,10 @@ VerbRunner add_crossval(CLI::App& app) {
         cross_validate(samples, model.model, options, a->neighbourhood, a->cv);
     // Warnings only once every check has passed: a refused run prints one line.
     print_warnings(samples.summary.warnings);
-    if (!a->out.quiet)
-      for (const auto& n : notes) std::cerr << "note: " << n << "\n";
+    print_notes(notes, a->out.quiet);
     print_warnings(result.summary.counts.warnings);
     if (!a->output.empty())
-      write_text_output(a->output, crossval_csv(result, samples.dimension), a->overwrite, "crossval");
+      write_text_output(a->output, crossval_csv(result, samples.dimension), a->overwrite);
     std::cout << (a->out.json ? crossval_summary_json(result) + "\n" : crossval_summary_text(result));
     return 0;
   };

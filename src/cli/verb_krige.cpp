@@ -80,7 +80,7 @@ VerbRunner add_krige(CLI::App& app) {
 
   return [a, verb]() -> int {
     if (!verb->parsed()) return -1;
-    check_output_path(a->output, a->overwrite, "krige");
+    check_output_path(a->output, a->overwrite);
     std::string why;
     if (!a->grid.is_valid(&why)) throw InputError("krige", why);
     const ModelFile model = load_model(a->kriging.model);
@@ -122,10 +122,9 @@ VerbRunner add_krige(CLI::App& app) {
     // Warnings only once every check has passed: a refused run prints one line.
     print_warnings(samples.summary.warnings);
     for (const auto& n : engine.notes()) notes.push_back(n);
-    if (!a->out.quiet)
-      for (const auto& n : notes) std::cerr << "note: " << n << "\n";
+    print_notes(notes, a->out.quiet);
 
-    const Progress progress = show_progress(a->out) ? Progress(draw_progress) : Progress();
+    const Progress progress = terminal_progress(a->out.quiet);
     KrigingSummary summary;
     if (table) {
       summary = krige_table(engine, grid, {a->output, a->overwrite}, progress);

@@ -15,5 +15,6 @@ using VerbRunner = std::function<int()>;
 VerbRunner add_inspect(CLI::App& app);
 VerbRunner add_crossval(CLI::App& app);
 VerbRunner add_krige(CLI::App& app);
+VerbRunner add_variogram(CLI::App& app);
 
 }  // namespace sillstone::cli

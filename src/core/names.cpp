@@ -8,6 +8,7 @@
 #include "sillstone/model.hpp"
 #include "sillstone/samples.hpp"
 #include "sillstone/transform.hpp"
+#include "sillstone/variogram.hpp"
 
 namespace sillstone {
 namespace detail {
@@ -74,6 +75,23 @@ struct NameTable<Drift> {
   }};
 };
 
+template <>
+struct NameTable<VariogramEstimator> {
+  static constexpr std::array<std::pair<VariogramEstimator, std::string_view>, 2> entries{{
+      {VariogramEstimator::matheron, "matheron"},
+      {VariogramEstimator::cressie_hawkins, "cressie-hawkins"},
+  }};
+};
+
+template <>
+struct NameTable<VariogramStatistic> {
+  static constexpr std::array<std::pair<VariogramStatistic, std::string_view>, 3> entries{{
+      {VariogramStatistic::semivariance, "semivariance"},
+      {VariogramStatistic::covariance, "covariance"},
+      {VariogramStatistic::correlogram, "correlogram"},
+  }};
+};
+
 }  // namespace detail
 
 template <class Enum>
@@ -111,6 +129,8 @@ SILLSTONE_NAMED_ENUM(Transform)
 SILLSTONE_NAMED_ENUM(Family)
 SILLSTONE_NAMED_ENUM(KrigingMethod)
 SILLSTONE_NAMED_ENUM(Drift)
+SILLSTONE_NAMED_ENUM(VariogramEstimator)
+SILLSTONE_NAMED_ENUM(VariogramStatistic)
 
 #undef SILLSTONE_NAMED_ENUM
 

@@ -34,7 +34,36 @@ class PointIndex {
     return found;
   }
 
+  /// Pair enumeration: calls visit(j, distance) for every sample j > i whose
+  /// Euclidean distance to sample i is at most `radius` (inclusive), so that
+  /// calls for i = 0..n-1 meet each pair once. The order of j is fixed by the
+  /// tree (not sorted): the same on every call and thread. Nothing is stored.
+  template <class Visit>
+  void for_each_pair_with(std::uint32_t i, double radius, Visit&& visit) const {
+    const Point& p = cloud_.points[i];
+    const double query[3] = {p.x, p.y, p.z};
+    LaterWithin<Visit> result{i, radius, radius * radius * (1 + 1e-12), visit};
+    tree_->findNeighbors(result, query, nanoflann::SearchParams(32, 0.0f, false));
+  }
+
  private:
+  // nanoflann's radius result set keeps d^2 < r^2 (strict, squared). This one
+  // searches a hair wider, keeps only later samples, then keeps
+  // sqrt(d^2) <= r exactly and hands on the true distance.
+  template <class Visit>
+  struct LaterWithin {
+    std::uint32_t after;
+    double radius, search;
+    Visit& visit;
+    double worstDist() const { return search; }
+    bool full() const { return true; }
+    bool addPoint(double squared, std::uint32_t index) {
+      if (index <= after) return true;
+      const double distance = std::sqrt(squared);
+      if (distance <= radius) visit(index, distance);
+      return true;  // keep searching
+    }
+  };
   struct Cloud {
     const std::vector<Point>& points;
     int dimension;

@@ -159,7 +159,7 @@ KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
 
   std::unique_ptr<Mask> mask;
   if (!target.mask.empty()) mask = std::make_unique<Mask>(target.mask, grid);
-  PendingOutput out(target.path, target.overwrite, kComponent);
+  PendingOutput out(target.path, target.overwrite);
   RasterWriter writer(out.temp_path(), layout);
 
   KrigingSummary summary;
@@ -215,7 +215,7 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
   columns.push_back("slope_of_regression");
   columns.push_back("kriging_efficiency");
 
-  PendingOutput out(target.path, target.overwrite, kComponent);
+  PendingOutput out(target.path, target.overwrite);
   std::ofstream csv;
   std::unique_ptr<GDALDataset> gpkg;
   OGRLayer* layer = nullptr;

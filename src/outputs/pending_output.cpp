@@ -3,7 +3,6 @@
 // The signal handler may only use async-signal-safe calls, so pending
 // temporary paths live in a fixed table of character buffers with an atomic
 // "in use" flag per slot; the handler unlinks every slot in use and _exits.
-#include <cpl_progress.h>
 #include <unistd.h>
 
 #include <array>
@@ -53,24 +52,24 @@ extern "C" void on_interrupt(int sig) {
 
 }  // namespace
 
-void check_output_path(const std::string& path, bool overwrite, const std::string& component) {
+void check_output_path(const std::string& path, bool overwrite) {
+  const char* component = "output";
   namespace fs = std::filesystem;
   if (path.empty()) throw InputError(component, "an empty output path was given");
   const fs::path p(path);
   const fs::path folder = p.has_parent_path() ? p.parent_path() : fs::path(".");
   std::error_code ec;
   if (!fs::is_directory(folder, ec))
-    throw InputError(component, path + ": the output folder " + folder.string() +
-                                    " does not exist");
+    throw InputError(component, path + ": the folder " + folder.string() + " does not exist");
   if (fs::is_directory(p, ec))
     throw InputError(component, path + ": is a folder; give a file name for the output");
   if (fs::exists(p, ec) && !overwrite)
     throw InputError(component, path + ": exists already; add --overwrite to replace it");
 }
 
-PendingOutput::PendingOutput(std::string final_path, bool overwrite, const std::string& component)
+PendingOutput::PendingOutput(std::string final_path, bool overwrite)
     : final_(std::move(final_path)) {
-  check_output_path(final_, overwrite, component);
+  check_output_path(final_, overwrite);
   namespace fs = std::filesystem;
   const fs::path p(final_);
   const std::string name = "." + p.stem().string() + ".tmp-" + std::to_string(::getpid()) + "-" +
@@ -102,9 +101,8 @@ void PendingOutput::commit() {
   slot_ = -1;
 }
 
-void write_text_output(const std::string& path, const std::string& text, bool overwrite,
-                       const std::string& component) {
-  PendingOutput out(path, overwrite, component);
+void write_text_output(const std::string& path, const std::string& text, bool overwrite) {
+  PendingOutput out(path, overwrite);
   {
     std::ofstream f(out.temp_path(), std::ios::binary | std::ios::trunc);
     if (!f) throw std::runtime_error("cannot write " + out.temp_path());
@@ -115,7 +113,12 @@ void write_text_output(const std::string& path, const std::string& text, bool ov
   out.commit();
 }
 
-void draw_terminal_progress(double fraction) { GDALTermProgress(fraction, nullptr, nullptr); }
+void write_atomically(const std::string& path, bool overwrite,
+                      const std::function<void(const std::string&)>& write) {
+  PendingOutput out(path, overwrite);
+  write(out.temp_path());
+  out.commit();
+}
 
 void install_interrupt_cleanup() {
   struct sigaction sa {};

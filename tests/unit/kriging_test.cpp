@@ -189,7 +189,7 @@ TEST_CASE("universal kriging reproduces a pure linear trend", "[kriging]") {
   }
 }
 
-TEST_CASE("block kriging: 1x1 discretisation is point kriging; variance falls with size", "[kriging]") {
+TEST_CASE("block kriging: 1x1 discretisation is point kriging, variance falls with size", "[kriging]") {
   const auto data = test::make_synthetic(60, 31, 1000.0);
   const SampleSet s = make_set(data.points, data.a);
   const CovarianceModel model = parse_model_spec("0.2 nugget + 1 spherical(range=300)");

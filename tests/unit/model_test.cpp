@@ -295,7 +295,7 @@ TEST_CASE("3D anisotropy: dip tilts the major axis, plunge turns the minor axes 
   CHECK(variogram_at(m, lag_at(50, 90, -30)) > variogram_at(m, lag_at(50, 90, 30)));
 }
 
-TEST_CASE("2D lags are 3D lags with dz = 0; 2D models are isotropic vertically", "[model]") {
+TEST_CASE("2D lags are 3D lags with dz = 0, 2D models are isotropic vertically", "[model]") {
   const auto m = parse_model_spec("0.1 nugget + 1 spherical(range=300, azimuth=75, ratio=0.4)");
   CHECK(m.dimension() == 2);
   CHECK_FALSE(m.is_isotropic());

@@ -70,7 +70,7 @@ TEST_CASE("UTF-8 byte-order mark, CRLF and blank lines are accepted", "[samples]
   CHECK(s.ids[1] == "line 4");
 }
 
-TEST_CASE("missing markers are skipped and counted; rows without values dropped", "[samples]") {
+TEST_CASE("missing markers are skipped and counted, rows without values dropped", "[samples]") {
   ScratchDir dir;
   const auto path =
       dir.write("m.csv", "x,y,a,b\n0,0,1,NA\n1,0,,2\n2,0,N/A,-\n,5,1,1\n3,0,4,5\n");
@@ -178,7 +178,7 @@ TEST_CASE("geographic coordinates are refused unless reprojected", "[samples]") 
   CHECK(s.crs_authority == "EPSG:32630");
 }
 
-TEST_CASE("CSV gets a CRS from --crs; 3D with --z", "[samples]") {
+TEST_CASE("CSV gets a CRS from --crs, 3D with --z", "[samples]") {
   ScratchDir dir;
   const auto path = dir.write("z.csv", "e,n,elev,v\n100,200,-5,1\n110,200,-15,2\n");
   SampleOptions o;
