@@ -1,0 +1,306 @@
+// The study file reader (TOML through toml++). Every key is looked up in a
+// table of known keys per section, so a misspelt key is an error with its
+// line rather than a silently ignored setting.
+#include <toml++/toml.h>
+
+#include <cmath>
+#include <filesystem>
+#include <functional>
+#include <map>
+#include <sstream>
+
+#include <nlohmann/json.hpp>
+
+#include "sillstone/error.hpp"
+#include "sillstone/names.hpp"
+#include "sillstone/study.hpp"
+
+namespace sillstone {
+namespace {
+
+namespace fs = std::filesystem;
+
+class Reader {
+ public:
+  explicit Reader(std::string file) : file_(std::move(file)) {}
+
+  [[noreturn]] void fail(const toml::node& node, const std::string& key, const std::string& what) const {
+    throw InputError("study", file_ + ", line " + std::to_string(node.source().begin.line) +
+                                  ", key '" + key + "': " + what);
+  }
+
+  std::string string(const toml::node& n, const std::string& key) const {
+    if (auto v = n.value<std::string>()) return *v;
+    fail(n, key, "expected a string");
+  }
+  double number(const toml::node& n, const std::string& key) const {
+    if (n.is_integer() || n.is_floating_point()) {
+      const double v = *n.value<double>();
+      if (!std::isfinite(v)) fail(n, key, "expected a finite number");
+      return v;
+    }
+    fail(n, key, "expected a number");
+  }
+  int integer(const toml::node& n, const std::string& key) const {
+    if (auto v = n.value<int64_t>()) return static_cast<int>(*v);
+    fail(n, key, "expected a whole number");
+  }
+  bool boolean(const toml::node& n, const std::string& key) const {
+    if (auto v = n.value<bool>()) return *v;
+    fail(n, key, "expected true or false");
+  }
+  // A number or an array of numbers.
+  std::vector<double> numbers(const toml::node& n, const std::string& key) const {
+    std::vector<double> out;
+    if (const toml::array* a = n.as_array()) {
+      for (const auto& e : *a) out.push_back(number(e, key));
+    } else {
+      out.push_back(number(n, key));
+    }
+    return out;
+  }
+  std::vector<int> integers(const toml::node& n, const std::string& key) const {
+    std::vector<int> out;
+    if (const toml::array* a = n.as_array()) {
+      for (const auto& e : *a) out.push_back(integer(e, key));
+    } else {
+      out.push_back(integer(n, key));
+    }
+    return out;
+  }
+  // A string or an array of strings.
+  std::vector<std::string> strings(const toml::node& n, const std::string& key) const {
+    std::vector<std::string> out;
+    if (const toml::array* a = n.as_array()) {
+      for (const auto& e : *a) out.push_back(string(e, key));
+    } else {
+      out.push_back(string(n, key));
+    }
+    return out;
+  }
+  template <class Enum>
+  Enum named(const toml::node& n, const std::string& key) const {
+    const std::string text = string(n, key);
+    try {
+      return parse_name<Enum>(text, key);
+    } catch (const InputError&) {
+      std::string choices;
+      for (const auto& c : names_of<Enum>()) choices += (choices.empty() ? "" : ", ") + c;
+      fail(n, key, "'" + text + "' is not one of " + choices);
+    }
+  }
+
+ private:
+  std::string file_;
+};
+
+using Handler = std::function<void(const toml::node&, const std::string& key)>;
+
+}  // namespace
+
+Study read_study(const std::string& path) {
+  Study st;
+  st.path = path;
+  std::error_code ec;
+  if (!fs::exists(path, ec)) throw InputError("study", path + ": no such file");
+  if (fs::is_directory(path, ec)) throw InputError("study", path + ": is a folder, not a study file");
+  st.folder = fs::path(path).has_parent_path() ? fs::path(path).parent_path().string() : ".";
+  toml::table doc;
+  try {
+    doc = toml::parse_file(path);
+  } catch (const toml::parse_error& e) {
+    throw InputError("study", InputLocation{path, "line " + std::to_string(e.source().begin.line), ""},
+                     "not valid TOML: " + std::string(e.description()));
+  }
+  const Reader r(path);
+  auto resolve = [&st](const std::string& p) {
+    if (p.empty() || fs::path(p).is_absolute()) return p;
+    return (fs::path(st.folder) / p).lexically_normal().string();
+  };
+
+  // Per section: key -> handler. Keys are the verbs' long options with '_' for '-'.
+  std::map<std::string, std::map<std::string, Handler>> sections;
+  auto& s = sections["samples"];
+  SampleOptions& so = st.samples;
+  s["path"] = [&](const toml::node& n, const std::string& k) { so.path = resolve(r.string(n, k)); };
+  s["layer"] = [&](const toml::node& n, const std::string& k) { so.layer = r.string(n, k); };
+  s["value"] = [&](const toml::node& n, const std::string& k) { so.values = r.strings(n, k); };
+  s["x"] = [&](const toml::node& n, const std::string& k) { so.x = r.string(n, k); };
+  s["y"] = [&](const toml::node& n, const std::string& k) { so.y = r.string(n, k); };
+  s["z"] = [&](const toml::node& n, const std::string& k) { so.z = r.string(n, k); };
+  s["where"] = [&](const toml::node& n, const std::string& k) { so.where = r.string(n, k); };
+  s["crs"] = [&](const toml::node& n, const std::string& k) { so.crs = r.string(n, k); };
+  s["to_crs"] = [&](const toml::node& n, const std::string& k) { so.to_crs = r.string(n, k); };
+  s["below_detection"] = [&](const toml::node& n, const std::string& k) { so.below_detection = r.named<BelowDetection>(n, k); };
+  s["duplicates"] = [&](const toml::node& n, const std::string& k) { so.duplicates = r.named<DuplicatePolicy>(n, k); };
+
+  auto& v = sections["variogram"];
+  VariogramOptions& vo = st.variogram;
+  v["lag"] = [&](const toml::node& n, const std::string& k) { vo.lag = r.number(n, k); };
+  v["lags"] = [&](const toml::node& n, const std::string& k) { vo.lags = r.integer(n, k); };
+  v["max_distance"] = [&](const toml::node& n, const std::string& k) { vo.max_distance = r.number(n, k); };
+  v["statistic"] = [&](const toml::node& n, const std::string& k) { vo.statistic = r.named<VariogramStatistic>(n, k); };
+  v["azimuths"] = [&](const toml::node& n, const std::string& k) { vo.azimuths = r.numbers(n, k); };
+  v["angle_tolerance"] = [&](const toml::node& n, const std::string& k) { vo.angle_tolerance = r.number(n, k); };
+  v["bandwidth"] = [&](const toml::node& n, const std::string& k) { vo.bandwidth = r.number(n, k); };
+  v["dips"] = [&](const toml::node& n, const std::string& k) { vo.dips = r.numbers(n, k); };
+  v["dip_tolerance"] = [&](const toml::node& n, const std::string& k) { vo.dip_tolerance = r.number(n, k); };
+  v["vertical_bandwidth"] = [&](const toml::node& n, const std::string& k) { vo.vertical_bandwidth = r.number(n, k); };
+  v["estimator"] = [&](const toml::node& n, const std::string& k) { vo.estimator = r.named<VariogramEstimator>(n, k); };
+  v["transform"] = [&](const toml::node& n, const std::string& k) { vo.transform = r.named<Transform>(n, k); };
+  v["log_offset"] = [&](const toml::node& n, const std::string& k) { vo.log_offset = r.number(n, k); };
+  v["surface_cell"] = [&](const toml::node& n, const std::string& k) { vo.surface_cell = r.number(n, k); };
+
+  auto& m = sections["model"];
+  ModelChoice& mc = st.model;
+  bool model_given = false;
+  auto once = [&](const toml::node& n, const std::string& k) {
+    if (model_given) r.fail(n, k, "[model] takes one of spec, fit or auto");
+    model_given = true;
+  };
+  m["spec"] = [&](const toml::node& n, const std::string& k) {
+    once(n, k);
+    mc.kind = ModelChoice::Kind::spec;
+    mc.spec = r.string(n, k);
+    // A model.json beside the study resolves like any path.
+    if (mc.spec.size() > 5 && mc.spec.substr(mc.spec.size() - 5) == ".json") mc.spec = resolve(mc.spec);
+  };
+  m["auto"] = [&](const toml::node& n, const std::string& k) {
+    once(n, k);
+    if (!r.boolean(n, k)) r.fail(n, k, "auto = false says nothing; give spec or fit instead");
+    mc.kind = ModelChoice::Kind::automatic;
+  };
+  m["fit"] = [&](const toml::node& n, const std::string& k) {
+    once(n, k);
+    mc.kind = ModelChoice::Kind::fit;
+    const toml::table* t = n.as_table();
+    if (!t) r.fail(n, k, "expected a table, e.g. fit = { structures = [\"nugget\", \"spherical\"] }");
+    for (const auto& [key, value] : *t) {
+      const std::string name = "fit." + std::string(key.str());
+      if (key == "structures") mc.structures = r.strings(value, name);
+      else if (key == "weights") mc.weights = r.string(value, name);
+      else if (key == "fix") mc.fix = r.strings(value, name);
+      else r.fail(value, name, "unknown key (keys of fit: structures, weights, fix)");
+    }
+    if (mc.structures.empty()) r.fail(n, k, "fit needs structures, e.g. [\"nugget\", \"spherical\"]");
+  };
+  m["weights"] = [&](const toml::node& n, const std::string& k) { mc.weights = r.string(n, k); };
+
+  auto& c = sections["crossval"];
+  c["folds"] = [&](const toml::node& n, const std::string& k) { st.crossval.folds = r.integer(n, k); };
+  c["skip"] = [&](const toml::node& n, const std::string& k) { st.crossval_enabled = !r.boolean(n, k); };
+
+  auto& nb = sections["neighbourhood"];
+  NeighbourhoodOptions& no = st.neighbourhood;
+  nb["max_points"] = [&](const toml::node& n, const std::string& k) { no.max_points = r.integer(n, k); };
+  nb["min_points"] = [&](const toml::node& n, const std::string& k) { no.min_points = r.integer(n, k); };
+  nb["radius"] = [&](const toml::node& n, const std::string& k) { no.radius = r.number(n, k); };
+  nb["sectors"] = [&](const toml::node& n, const std::string& k) { no.sectors = r.integer(n, k); };
+  nb["max_per_sector"] = [&](const toml::node& n, const std::string& k) { no.max_per_sector = r.integer(n, k); };
+  nb["global"] = [&](const toml::node& n, const std::string& k) { no.global = r.boolean(n, k); };
+
+  auto& g = sections["grid"];
+  g["cell"] = [&](const toml::node& n, const std::string& k) { st.grid.cell = r.numbers(n, k); };
+  g["extent"] = [&](const toml::node& n, const std::string& k) { st.grid.extent = r.numbers(n, k); };
+  g["like"] = [&](const toml::node& n, const std::string& k) { st.grid.like = resolve(r.string(n, k)); };
+  g["mask"] = [&](const toml::node& n, const std::string& k) { st.mask = resolve(r.string(n, k)); };
+
+  auto& kr = sections["kriging"];
+  KrigingOptions& ko = st.kriging;
+  kr["method"] = [&](const toml::node& n, const std::string& k) { ko.method = r.named<KrigingMethod>(n, k); };
+  kr["mean"] = [&](const toml::node& n, const std::string& k) { ko.mean = r.number(n, k); };
+  kr["drift"] = [&](const toml::node& n, const std::string& k) { ko.drift = r.named<Drift>(n, k); };
+  kr["external_drift"] = [&](const toml::node& n, const std::string& k) { ko.external_drift = resolve(r.string(n, k)); };
+  kr["block"] = [&](const toml::node& n, const std::string& k) { ko.block = r.numbers(n, k); };
+  kr["discretise"] = [&](const toml::node& n, const std::string& k) { ko.discretise = r.integers(n, k); };
+  kr["transform"] = [&](const toml::node& n, const std::string& k) {
+    ko.transform = r.named<Transform>(n, k);
+    st.kriging_transform_given = true;
+  };
+  kr["threshold"] = [&](const toml::node& n, const std::string& k) { ko.threshold = r.number(n, k); };
+  kr["threads"] = [&](const toml::node& n, const std::string& k) { ko.threads = r.integer(n, k); };
+
+  auto& o = sections["output"];
+  o["dir"] = [&](const toml::node& n, const std::string& k) { st.output_dir = resolve(r.string(n, k)); };
+  o["format"] = [&](const toml::node& n, const std::string& k) { st.format = r.string(n, k); };
+  o["overwrite"] = [&](const toml::node& n, const std::string& k) { st.overwrite = r.boolean(n, k); };
+
+  auto& rp = sections["report"];
+  rp["title"] = [&](const toml::node& n, const std::string& k) { st.report.title = r.string(n, k); };
+  rp["units"] = [&](const toml::node& n, const std::string& k) { st.report.units = r.string(n, k); };
+  rp["density"] = [&](const toml::node& n, const std::string& k) { st.report.density = r.number(n, k); };
+  rp["cutoffs"] = [&](const toml::node& n, const std::string& k) { st.report.cutoffs = r.numbers(n, k); };
+
+  for (const auto& [section, node] : doc) {
+    const std::string name(section.str());
+    const auto known = sections.find(name);
+    if (known == sections.end()) {
+      std::string list;
+      for (const auto& [k, unused] : sections) list += (list.empty() ? "" : ", ") + ("[" + k + "]");
+      r.fail(node, name, "unknown section (sections: " + list + ")");
+    }
+    const toml::table* table = node.as_table();
+    if (!table) r.fail(node, name, "expected a section [" + name + "]");
+    for (const auto& [key, value] : *table) {
+      const std::string k(key.str());
+      const auto h = known->second.find(k);
+      if (h == known->second.end()) {
+        std::string list;
+        for (const auto& [kk, unused] : known->second) list += (list.empty() ? "" : ", ") + kk;
+        r.fail(value, name + "." + k, "unknown key (keys of [" + name + "]: " + list + ")");
+      }
+      h->second(value, name + "." + k);
+    }
+  }
+  if (so.path.empty())
+    throw InputError("study", path + ": [samples] needs path = \"...\" (the samples file)");
+  if (so.values.empty())
+    throw InputError("study", path + ": [samples] needs value = \"COLUMN\"");
+  std::string why;
+  if (!so.is_valid(&why)) throw InputError("study", path + ": [samples]: " + why);
+  if (st.grid.cell.empty() && st.grid.like.empty())
+    throw InputError("study", path + ": [grid] needs cell = ... (or like = \"template.tif\")");
+  return st;
+}
+
+std::string study_settings_json(const Study& st) {
+  using nlohmann::json;
+  auto num = [](double v) { return std::isfinite(v) ? json(v) : json(); };
+  const SampleOptions& so = st.samples;
+  const VariogramOptions& vo = st.variogram;
+  const KrigingOptions& ko = st.kriging;
+  const NeighbourhoodOptions& no = st.neighbourhood;
+  json j;
+  j["samples"] = {{"path", so.path}, {"layer", so.layer}, {"value", so.values}, {"x", so.x},
+                  {"y", so.y}, {"z", so.z}, {"where", so.where}, {"crs", so.crs},
+                  {"to_crs", so.to_crs}, {"below_detection", name_of(so.below_detection)},
+                  {"duplicates", name_of(so.duplicates)}};
+  j["variogram"] = {{"lag", vo.lag}, {"lags", vo.lags}, {"max_distance", vo.max_distance},
+                    {"statistic", name_of(vo.statistic)}, {"azimuths", vo.azimuths},
+                    {"angle_tolerance", vo.angle_tolerance}, {"bandwidth", num(vo.bandwidth)},
+                    {"dips", vo.dips}, {"dip_tolerance", vo.dip_tolerance},
+                    {"vertical_bandwidth", num(vo.vertical_bandwidth)},
+                    {"estimator", name_of(vo.estimator)}, {"transform", name_of(vo.transform)},
+                    {"log_offset", vo.log_offset}, {"surface_cell", vo.surface_cell}};
+  const char* kinds[] = {"spec", "fit", "auto"};
+  j["model"] = {{"kind", kinds[static_cast<int>(st.model.kind)]}, {"spec", st.model.spec},
+                {"structures", st.model.structures}, {"weights", st.model.weights},
+                {"fix", st.model.fix}};
+  j["crossval"] = {{"folds", st.crossval.folds}, {"skip", !st.crossval_enabled}};
+  j["neighbourhood"] = {{"max_points", no.max_points}, {"min_points", no.min_points},
+                        {"radius", no.radius}, {"sectors", no.sectors},
+                        {"max_per_sector", no.max_per_sector}, {"global", no.global}};
+  j["grid"] = {{"cell", st.grid.cell}, {"extent", st.grid.extent}, {"like", st.grid.like},
+               {"mask", st.mask}};
+  j["kriging"] = {{"method", name_of(ko.method)}, {"mean", num(ko.mean)},
+                  {"drift", name_of(ko.drift)}, {"external_drift", ko.external_drift},
+                  {"block", ko.block}, {"discretise", ko.discretise},
+                  {"transform", name_of(ko.transform)}, {"threshold", num(ko.threshold)},
+                  {"threads", ko.threads}};
+  j["output"] = {{"dir", st.output_dir}, {"format", st.format}, {"overwrite", st.overwrite}};
+  j["report"] = {{"title", st.report.title}, {"units", st.report.units},
+                 {"density", st.report.density}, {"cutoffs", st.report.cutoffs}};
+  return j.dump();
+}
+
+}  // namespace sillstone
