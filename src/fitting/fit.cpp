@@ -462,6 +462,24 @@ void add_warnings(FitResult* r, const ModelProblem& problem, const Eigen::Vector
                          ", beyond the largest lag " + num(r->largest_lag) +
                          ": the range is an extrapolation");
 
+  // A range shorter than the second class: only the first class sees the
+  // structure, and any range up to the second class fits it as well.
+  std::vector<double> distances;
+  for (const FitRow& row : r->rows) distances.push_back(row.distance);
+  std::sort(distances.begin(), distances.end());
+  distances.erase(std::unique(distances.begin(), distances.end()), distances.end());
+  if (distances.size() >= 2) {
+    for (std::size_t i = 0; i < s.size(); ++i) {
+      if (s[i].range <= 0 || s[i].sill <= 0) continue;
+      const double shortest = s[i].range * std::min(s[i].anisotropy.ratio, s[i].anisotropy.ratio2);
+      if (shortest < distances[1])
+        warnings.push_back(label(i, s[i].family) + ": its " +
+                           (shortest < s[i].range ? "shortest range " : "range ") + num(shortest) +
+                           " is below the second class's distance " + num(distances[1]) +
+                           ": only the first class sees it, so the range is poorly determined");
+    }
+  }
+
   // Parameters that ended on a bound.
   const Eigen::VectorXd& lo = problem.lower();
   const Eigen::VectorXd& hi = problem.upper();

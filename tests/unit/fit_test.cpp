@@ -432,6 +432,12 @@ TEST_CASE("warnings: few samples, few pairs, sill against variance, non-converge
   r = fit_model(v, with({Family::nugget, Family::spherical}));
   CHECK_FALSE(has_text(r.summary.warnings, "sample variance"));
 
+  // A range below the second class (first classes at 16 and 62): only the first class sees it.
+  r = fit_model(noise_free(parse_model_spec("0.2 nugget + 1 spherical(range=30)")),
+                with({Family::nugget, Family::spherical}));
+  CHECK(has_text(r.summary.warnings, "below the second class's distance 62"));
+  CHECK(has_text(r.summary.warnings, "poorly determined"));
+
   // One iteration is not enough from the starts on a noisy variogram.
   EmpiricalVariogram noisy = noise_free(truth, {}, 15);
   for (std::size_t i = 0; i < noisy.rows.size(); ++i)
