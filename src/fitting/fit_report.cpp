@@ -60,7 +60,8 @@ Json ranking_json(const std::vector<FitResult>& ranking) {
                     {"objective", number(r.objective)},
                     {"aic", number(r.aic)},
                     {"parameters", r.parameters},
-                    {"converged", r.summary.converged}});
+                    {"converged", r.summary.converged},
+                    {"warnings", r.summary.warnings.size()}});
   }
   return list;
 }
@@ -239,13 +240,14 @@ void write_fit_text(std::ostream& out, const FitResult& best,
     out << std::right << std::setw(5) << "rank"
         << "  " << std::left << std::setw(30) << "structures" << std::right << std::setw(14)
         << "objective" << std::setw(12) << "AIC" << std::setw(4) << "p"
-        << "  converged\n";
+        << "  converged  warnings\n";
     for (std::size_t i = 0; i < ranking.size(); ++i) {
       const FitResult& r = ranking[i];
       out << std::right << std::setw(5) << i + 1 << "  " << std::left << std::setw(30)
           << families(r) << std::right << std::setw(14) << num(r.objective) << std::setw(12)
-          << num(r.aic) << std::setw(4) << r.parameters << "  "
-          << (r.summary.converged ? "yes" : "no") << "\n";
+          << num(r.aic) << std::setw(4) << r.parameters << "  " << std::left << std::setw(11)
+          << (r.summary.converged ? "yes" : "no") << std::right << std::setw(8)
+          << r.summary.warnings.size() << "\n";
     }
   }
   if (!best.summary.notes.empty()) {

@@ -563,6 +563,8 @@ TEST_CASE("the model file carries the model, the transform and the fit object", 
   REQUIRE(with_ranking["ranking"].size() == ranked.size());
   CHECK(with_ranking["ranking"][0]["structures"] == "nugget+spherical");
   CHECK(with_ranking["criterion"] == "aic");
+  for (std::size_t i = 0; i < ranked.size(); ++i)
+    CHECK(with_ranking["ranking"][i]["warnings"] == ranked[i].summary.warnings.size());
 
   const auto doc = nlohmann::json::parse(fit_to_json(r, {}));
   CHECK(doc["model"] == to_spec(r.model));
