@@ -261,13 +261,21 @@ class TopLevelKeys : public nlohmann::json_sax<json> {
   bool number_float(number_float_t, const string_t&) override { return true; }
   bool string(string_t&) override { return true; }
   bool binary(binary_t&) override { return true; }
-  bool start_object(std::size_t) override { return ++depth_ > 0; }
-  bool end_object() override { return --depth_ >= 0; }
-  bool start_array(std::size_t) override {
+  bool start_object(std::size_t) override {
     ++depth_;
-    return depth_ > 0;  // a top-level array is not a variogram document
+    return true;
   }
-  bool end_array() override { return --depth_ >= 0; }
+  bool end_object() override {
+    --depth_;
+    return true;
+  }
+  bool start_array(std::size_t) override {
+    return depth_++ > 0;  // a top-level array is not a variogram document: stop
+  }
+  bool end_array() override {
+    --depth_;
+    return true;
+  }
   bool key(string_t& k) override {
     if (depth_ != 1) return true;
     if (k == "rows") variogram = true;
