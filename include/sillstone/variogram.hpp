@@ -177,4 +177,11 @@ void write_variogram_surface(const std::string& path, const EmpiricalVariogram& 
 /// naming the file, line (CSV) or row (JSON) and column.
 EmpiricalVariogram read_variogram(const std::string& path);
 
+/// True when `path` holds a variogram table rather than samples: a text file
+/// whose first non-blank line starts with the CSV header's first six columns
+/// (azimuth,dip,lag_from,lag_to,mean_distance,pairs), or a JSON object with a
+/// top-level "rows" key (a GeoJSON source has "type" and "features" instead).
+/// Only the start of the file is read. False when the file cannot be read.
+bool is_variogram_table(const std::string& path);
+
 }  // namespace sillstone

@@ -3,24 +3,31 @@
 #include <unistd.h>  // isatty: progress only on a terminal
 
 #include <algorithm>
+#include <cmath>
 #include <iostream>
 #include <memory>
+#include <sstream>
 
+#include "sillstone/error.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/outputs.hpp"
+#include "sillstone/summary.hpp"
 
 namespace sillstone::cli {
 
-void add_sample_options(CLI::App& verb, SampleArgs& a) {
+void add_sample_options(CLI::App& verb, SampleArgs& a, const std::string& input_help,
+                        bool value_required) {
   SampleOptions& o = a.options;
   verb.add_option("SAMPLES", o.path,
-                  "Samples: any OGR vector source (CSV, GeoPackage, Shapefile, GeoJSON, ...)")
+                  input_help.empty()
+                      ? "Samples: any OGR vector source (CSV, GeoPackage, Shapefile, GeoJSON, ...)"
+                      : input_help)
       ->required();
   verb.add_option("--layer", o.layer, "Layer to read (default: the first)");
   verb.add_option("--value", o.values,
                   "Value column(s): repeat the option or separate names with commas")
       ->delimiter(',')
-      ->required();
+      ->required(value_required);
   verb.add_option("--x", o.x, "X (easting) column, for tables without point geometry");
   verb.add_option("--y", o.y, "Y (northing) column, for tables without point geometry");
   verb.add_option("--z", o.z, "Z (elevation) column: makes the analysis 3D");
@@ -35,11 +42,119 @@ void add_sample_options(CLI::App& verb, SampleArgs& a) {
       ->default_str("average");
 }
 
+std::vector<std::string> sample_option_names() {
+  return {"--layer", "--value", "--x",   "--y", "--z", "--where", "--crs", "--to-crs",
+          "--below-detection", "--duplicates"};
+}
+
 SampleOptions resolve(const SampleArgs& a) {
   SampleOptions o = a.options;
   o.below_detection = parse_name<BelowDetection>(a.below_detection, "--below-detection");
   o.duplicates = parse_name<DuplicatePolicy>(a.duplicates, "--duplicates");
   return o;
+}
+
+void add_variogram_options(CLI::App& verb, VariogramArgs& args) {
+  VariogramOptions& o = args.options;
+  verb.add_option("--lag", o.lag, "Lag class width W (classes (iW, (i+1)W])");
+  verb.add_option("--lags", o.lags, "Number of lag classes N");
+  verb.add_option(
+      "--max-distance", o.max_distance,
+      "Largest distance D; alone it gives W = D/" + std::to_string(VariogramOptions::kDefaultLags) +
+          ". Without --lag and --max-distance the lags suggested by `inspect` are used");
+  verb.add_option("--azimuths", o.azimuths,
+                  "Directions, degrees clockwise from north, e.g. 0,45,90,135 "
+                  "(default: omnidirectional)")
+      ->delimiter(',');
+  verb.add_option("--angle-tolerance", o.angle_tolerance,
+                  "Half-angle around each azimuth, degrees (inclusive)")
+      ->default_str("22.5");
+  verb.add_option("--bandwidth", o.bandwidth,
+                  "Largest offset across a direction (a half-width; default: none)");
+  verb.add_option("--dips", o.dips, "3D: dips, degrees down from horizontal (0..90; 90 = vertical)")
+      ->delimiter(',');
+  verb.add_option("--dip-tolerance", o.dip_tolerance, "Half-angle around each dip, degrees")
+      ->default_str("22.5");
+  verb.add_option("--vertical-bandwidth", o.vertical_bandwidth,
+                  "3D: largest vertical offset from a direction (default: none)");
+  verb.add_option("--estimator", args.estimator, "matheron or cressie-hawkins (robust)")
+      ->default_str("matheron");
+  verb.add_option("--transform", args.transform, "none, log or normal-score")
+      ->default_str("none");
+  verb.add_option("--log-offset", o.log_offset, "C in log(value + C) for --transform log");
+  verb.add_option("--threads", o.threads, "Threads (0: every core; results do not depend on it)")
+      ->default_str("0");
+}
+
+std::vector<std::string> variogram_option_names() {
+  return {"--lag",       "--lags",          "--max-distance",       "--azimuths",
+          "--angle-tolerance", "--bandwidth", "--dips",            "--dip-tolerance",
+          "--vertical-bandwidth", "--estimator", "--transform",   "--log-offset",
+          "--threads"};
+}
+
+VariogramOptions resolve(const VariogramArgs& args) {
+  VariogramOptions o = args.options;
+  o.estimator = parse_name<VariogramEstimator>(args.estimator, "--estimator");
+  o.transform = parse_name<Transform>(args.transform, "--transform");
+  return o;
+}
+
+void check_variogram_options(const VariogramOptions& o) {
+  VariogramOptions probe = o;
+  if (probe.lag == 0 && probe.max_distance == 0) probe.max_distance = 1;  // lags come later
+  probe.surface = false;  // its size is checked once the lags are known
+  std::string why;
+  if (!probe.is_valid(&why)) throw InputError("variogram", why);
+}
+
+namespace {
+
+std::string format(double x) {
+  std::ostringstream s;
+  s << x;
+  return s.str();
+}
+
+// Lag classes from the advice of `inspect` when none were given. Returns the note.
+std::string advise_lags(const SampleSet& samples, VariogramOptions* o) {
+  std::vector<Point> located;
+  for (std::size_t i = 0; i < samples.size(); ++i)
+    if (!std::isnan(samples.values.front()[i])) located.push_back(samples.points[i]);
+  const SpacingStats spacing = nearest_neighbour_spacing(located, samples.dimension);
+  const LagAdvice advice = suggest_lags(located, samples.dimension, spacing.median);
+  if (advice.lags < 1)
+    throw InputError("variogram", samples.source +
+                                      ": no lag classes can be suggested for these "
+                                      "samples; give --lag and --lags");
+  if (o->lags > 0) {  // --lags N alone: the suggested reach, cut into N classes
+    o->max_distance = advice.max_distance;
+    return "no --lag or --max-distance given; using the suggested maximum distance " +
+           format(advice.max_distance) + " in " + std::to_string(o->lags) + " classes (" +
+           advice.rule + ")";
+  }
+  o->lag = advice.lag;
+  o->lags = advice.lags;
+  return "no --lag or --max-distance given; using the suggested --lag " + format(advice.lag) +
+         " --lags " + std::to_string(advice.lags) + " (" + advice.rule + ")";
+}
+
+}  // namespace
+
+EmpiricalVariogram variogram_of(const SampleSet& samples, VariogramOptions o, bool quiet,
+                                std::vector<std::string>* notes,
+                                std::vector<std::string>* warnings) {
+  std::vector<std::string> own_warnings;
+  if (samples.value_names.size() > 1)
+    own_warnings.push_back("several --value columns were given; the variogram uses the first, '" +
+                           samples.value_names.front() + "'");
+  o.value = samples.value_names.front();
+  if (o.lag == 0 && o.max_distance == 0) notes->push_back(advise_lags(samples, &o));
+  EmpiricalVariogram v = compute_variogram(samples, o, terminal_progress(quiet));
+  warnings->insert(warnings->end(), v.summary.warnings.begin(), v.summary.warnings.end());
+  warnings->insert(warnings->end(), own_warnings.begin(), own_warnings.end());
+  notes->insert(notes->end(), v.summary.notes.begin(), v.summary.notes.end());
+  return v;
 }
 
 void add_output_options(CLI::App& verb, OutputArgs& a) {

@@ -10,6 +10,7 @@
 #include "sillstone/kriging.hpp"
 #include "sillstone/neighbourhood.hpp"
 #include "sillstone/samples.hpp"
+#include "sillstone/variogram.hpp"
 
 namespace sillstone::cli {
 
@@ -22,11 +23,39 @@ struct SampleArgs {
 };
 
 /// Declares SAMPLES, --layer, --value, --x/--y/--z, --where, --crs, --to-crs,
-/// --below-detection and --duplicates on `verb`.
-void add_sample_options(CLI::App& verb, SampleArgs& args);
+/// --below-detection and --duplicates on `verb`. `input_help` replaces the
+/// help of SAMPLES when not empty; `value_required` false leaves --value
+/// optional (for verbs whose input need not be samples).
+void add_sample_options(CLI::App& verb, SampleArgs& args, const std::string& input_help = "",
+                        bool value_required = true);
+/// The options add_sample_options declares, but SAMPLES.
+std::vector<std::string> sample_option_names();
 
 /// The SampleOptions after the enumerations were parsed (throws InputError).
 SampleOptions resolve(const SampleArgs& args);
+
+/// The options of the empirical variogram shared by `variogram` and `fit`:
+/// lag classes, directions, estimator, transform, log offset, threads.
+/// Enumerations are bound to strings first and checked by names.cpp.
+struct VariogramArgs {
+  VariogramOptions options;
+  std::string estimator = "matheron";
+  std::string transform = "none";
+};
+void add_variogram_options(CLI::App& verb, VariogramArgs& args);
+/// The options add_variogram_options declares.
+std::vector<std::string> variogram_option_names();
+/// The VariogramOptions after the enumerations were parsed (throws InputError).
+VariogramOptions resolve(const VariogramArgs& args);
+/// Refuses (InputError) what can be refused before the samples are read.
+/// The lag classes may still be missing (they are then advised, see below).
+void check_variogram_options(const VariogramOptions& options);
+/// The variogram of the first value column of `samples`, with the lag classes
+/// that `inspect` advises when none were given (said in a note). Appends the
+/// notes and warnings to print.
+EmpiricalVariogram variogram_of(const SampleSet& samples, VariogramOptions options, bool quiet,
+                                std::vector<std::string>* notes,
+                                std::vector<std::string>* warnings);
 
 /// Output switches shared by the verbs that print results.
 struct OutputArgs {

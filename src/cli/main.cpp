@@ -26,6 +26,7 @@ int main(int argc, char** argv) {
   verbs.push_back(cli::add_crossval(app));
   verbs.push_back(cli::add_krige(app));
   verbs.push_back(cli::add_variogram(app));
+  verbs.push_back(cli::add_fit(app));
 
   try {
     app.parse(argc, argv);

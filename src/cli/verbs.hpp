@@ -16,5 +16,6 @@ VerbRunner add_inspect(CLI::App& app);
 VerbRunner add_crossval(CLI::App& app);
 VerbRunner add_krige(CLI::App& app);
 VerbRunner add_variogram(CLI::App& app);
+VerbRunner add_fit(CLI::App& app);
 
 }  // namespace sillstone::cli

@@ -250,6 +250,45 @@ EmpiricalVariogram read_json(const std::string& path) {
   return v;
 }
 
+// Stops at the first top-level key: "rows" means a variogram document.
+class TopLevelKeys : public nlohmann::json_sax<json> {
+ public:
+  bool variogram = false;
+  bool null() override { return true; }
+  bool boolean(bool) override { return true; }
+  bool number_integer(number_integer_t) override { return true; }
+  bool number_unsigned(number_unsigned_t) override { return true; }
+  bool number_float(number_float_t, const string_t&) override { return true; }
+  bool string(string_t&) override { return true; }
+  bool binary(binary_t&) override { return true; }
+  bool start_object(std::size_t) override {
+    ++depth_;
+    return true;
+  }
+  bool end_object() override {
+    --depth_;
+    return true;
+  }
+  bool start_array(std::size_t) override {
+    return depth_++ > 0;  // a top-level array is not a variogram document: stop
+  }
+  bool end_array() override {
+    --depth_;
+    return true;
+  }
+  bool key(string_t& k) override {
+    if (depth_ != 1) return true;
+    if (k == "rows") variogram = true;
+    return !(variogram || k == "type" || k == "features");  // decided: stop reading
+  }
+  bool parse_error(std::size_t, const std::string&, const nlohmann::detail::exception&) override {
+    return false;
+  }
+
+ private:
+  int depth_ = 0;
+};
+
 std::string direction_label(const VariogramRow& r) {
   if (!r.azimuth && !r.dip) return "omnidirectional";
   std::string label;
@@ -374,6 +413,29 @@ void write_variogram(const std::string& path, const EmpiricalVariogram& v, bool 
     out.close();
     if (!out) throw std::runtime_error(temporary + ": writing failed");
   });
+}
+
+bool is_variogram_table(const std::string& path) {
+  std::ifstream in(path, std::ios::binary);
+  if (!in) return false;
+  char c = 0;
+  while (in.get(c) && std::isspace(static_cast<unsigned char>(c))) {
+  }
+  if (!in) return false;
+  if (c == '{') {
+    in.unget();
+    TopLevelKeys keys;
+    json::sax_parse(in, &keys);
+    return keys.variogram;
+  }
+  in.unget();
+  std::string line;
+  std::getline(in, line);
+  if (!line.empty() && line.back() == '\r') line.pop_back();
+  const std::vector<std::string> f = split(line);
+  for (std::size_t k = 0; k < 6; ++k)
+    if (k >= f.size() || f[k] != kColumns[k]) return false;
+  return true;
 }
 
 EmpiricalVariogram read_variogram(const std::string& path) {

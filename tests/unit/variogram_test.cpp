@@ -388,3 +388,28 @@ TEST_CASE("the variogram surface is symmetric and written as a GeoTIFF", "[vario
         CE_None);
   CHECK(centre_east == at(2, 0));
 }
+
+TEST_CASE("is_variogram_table tells variogram tables from samples", "[variogram]") {
+  test::ScratchDir dir;
+  // The table's header, with or without blank lines and CRLF before it.
+  CHECK(is_variogram_table(dir.write(
+      "v.csv", "\nazimuth,dip,lag_from,lag_to,mean_distance,pairs,semivariance\r\n,,0,1,0.5,3,2\r\n")));
+  CHECK(is_variogram_table(dir.write(
+      "c.txt", "azimuth,dip,lag_from,lag_to,mean_distance,pairs,covariance\n")));
+  CHECK_FALSE(is_variogram_table(dir.write("s.csv", "x,y,v\n0,0,1\n")));
+  CHECK_FALSE(is_variogram_table(dir.write("short.csv", "azimuth,dip,lag_from\n")));
+  // JSON: a top-level "rows" key, wherever it comes; GeoJSON has "type" and "features".
+  CHECK(is_variogram_table(dir.write(
+      "v.json", R"({"sillstone": "0.1", "settings": {"type": 1, "rows": 2}, "rows": []})")));
+  CHECK_FALSE(is_variogram_table(dir.write(
+      "s.geojson", R"({"type": "FeatureCollection", "rows": [], "features": []})")));
+  CHECK_FALSE(is_variogram_table(dir.write("a.json", R"([{"rows": []}])")));
+  CHECK_FALSE(is_variogram_table(dir.write("broken.json", R"({"sillstone": )")));
+  CHECK_FALSE(is_variogram_table(dir.path("missing.csv")));
+  // What write_variogram writes is recognised.
+  const EmpiricalVariogram v = compute_variogram(random_set(50, 3), lags(100, 4));
+  write_variogram(dir.path("out.csv"), v, false);
+  write_variogram(dir.path("out.json"), v, false);
+  CHECK(is_variogram_table(dir.path("out.csv")));
+  CHECK(is_variogram_table(dir.path("out.json")));
+}
