@@ -13,6 +13,7 @@ packages=(
   libtomlplusplus-dev                  # study files
   catch2                               # unit tests (v2)
   python3 python3-numpy python3-scipy python3-sklearn python3-gdal  # reference checks
+  chromium                             # the report's browser check
 )
 
 missing=()

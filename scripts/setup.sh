@@ -6,6 +6,8 @@ cd "$(dirname "$0")/.."
 bash scripts/install-deps.sh
 bash scripts/build.sh
 echo
-echo "== Demo: the soil survey around Kestrel Yard (demo-sites/soil-yard) =="
-build/sillstone inspect demo-sites/soil-yard/samples.csv --x easting --y northing \
-  --value lead_mg_kg,zinc_mg_kg,copper_mg_kg --crs EPSG:32630
+echo "== Demo study: lead in topsoil around Kestrel Yard (demo-sites/soil-yard) =="
+mkdir -p runs
+build/sillstone run demo-sites/soil-yard/study.toml -o runs/soil-yard --overwrite
+echo
+echo "Open the report in a browser: $(pwd)/runs/soil-yard/report.html"

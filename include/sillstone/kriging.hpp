@@ -207,6 +207,11 @@ KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
 struct TableTarget {
   std::string path;
   bool overwrite = false;
+  /// Optional list of blocks to estimate: any OGR source of points, with
+  /// x, y[, z] columns or point geometries (e.g. the blocks inside a
+  /// geological wireframe). A node is estimated when a listed point lies in
+  /// its cell; the others are left out of the table.
+  std::string blocks;
 };
 KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
                            const TableTarget& target, const Progress& progress = {});

@@ -10,9 +10,9 @@
 //                  transform, log_offset, surface_cell
 //   [model]        spec = "..." | fit = { structures = [...], weights = "...", fix = [...] }
 //                  | auto = true
-//   [crossval]     folds, skip
+//   [crossval]     folds, skip, also = [{ label, method, drift, external_drift, transform }]
 //   [neighbourhood] max_points, min_points, radius, sectors, max_per_sector, global
-//   [grid]         cell, extent, like, mask
+//   [grid]         cell, extent, like, mask, blocks
 //   [kriging]      method, mean, drift, external_drift, block, discretise,
 //                  transform, threshold, threads
 //   [output]       dir, format, overwrite
@@ -22,12 +22,14 @@
 // Relative paths resolve against the study file's folder.
 #pragma once
 
+#include <functional>
 #include <string>
 #include <vector>
 
 #include "sillstone/crossval.hpp"
 #include "sillstone/grid.hpp"
 #include "sillstone/kriging.hpp"
+#include "sillstone/model.hpp"
 #include "sillstone/neighbourhood.hpp"
 #include "sillstone/samples.hpp"
 #include "sillstone/variogram.hpp"
@@ -51,6 +53,13 @@ struct ReportOptions {
   std::vector<double> cutoffs;       ///< grade-tonnage cut-offs; empty: chosen from the data
 };
 
+/// Another kriging set-up to compare by cross-validation ([crossval] also):
+/// the study's [kriging] options with these replaced.
+struct KrigingAlternative {
+  std::string label;
+  KrigingOptions options;
+};
+
 struct Study {
   std::string path;    ///< the study file
   std::string folder;  ///< its folder; relative paths were resolved against it
@@ -59,9 +68,11 @@ struct Study {
   ModelChoice model;
   CrossValidationOptions crossval;
   bool crossval_enabled = true;
+  std::vector<KrigingAlternative> crossval_also;  ///< compared in the report
   NeighbourhoodOptions neighbourhood;
   GridOptions grid;
   std::string mask;
+  std::string blocks;  ///< [grid] blocks: a block list for block models (kriging.hpp TableTarget)
   KrigingOptions kriging;
   bool kriging_transform_given = false;  ///< else the model's transform is used
   std::string output_dir;
@@ -69,6 +80,42 @@ struct Study {
   bool overwrite = false;
   ReportOptions report;
 };
+
+/// Where a run goes and how it talks.
+struct RunOptions {
+  std::string output_dir;  ///< overrides [output] dir when not empty
+  bool overwrite = false;  ///< or [output] overwrite
+  /// Called when a stage starts ("samples", "variogram", ...), for progress.
+  std::function<void(const std::string& stage)> on_stage;
+};
+
+/// What a run wrote.
+struct RunResult {
+  std::string folder;
+  std::vector<std::string> files;     ///< paths written, in order
+  std::vector<std::string> notes;     ///< facts worth saying
+  std::vector<std::string> warnings;  ///< every stage's warnings
+  std::string report;                 ///< path of report.html
+};
+
+/// Runs the whole pipeline of a study into a run folder: summary.json,
+/// variogram.csv (and variogram_surface.tif for 2D data), model.json,
+/// crossval.csv, estimate.tif (2D) or blocks.csv (3D), report.html and
+/// run.json (inputs with SHA-256, every setting, the version, the time).
+/// The folder is created when its parent exists; outputs already in it are
+/// replaced only with `overwrite`. Numeric outputs are identical from run to
+/// run; only run.json carries the time.
+RunResult run_study(const Study& study, const RunOptions& options);
+
+/// A model fitted for a study: the model file, the fit table as text, warnings.
+struct FittedModel {
+  ModelFile file;
+  std::string table;
+  std::vector<std::string> warnings;
+};
+
+/// Fits the study's model ([model] fit or auto) to its empirical variogram.
+FittedModel fit_for_study(const ModelChoice& choice, const EmpiricalVariogram& variogram);
 
 /// Reads and checks a study file. Throws InputError("study", ...) naming the
 /// file, the line and the key of any fault.

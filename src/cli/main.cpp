@@ -21,12 +21,13 @@ int main(int argc, char** argv) {
   app.require_subcommand(1);
   app.fallthrough(false);
 
-  std::vector<cli::VerbRunner> verbs;
+  std::vector<cli::VerbRunner> verbs;  // in pipeline order, as --help lists them
   verbs.push_back(cli::add_inspect(app));
-  verbs.push_back(cli::add_crossval(app));
-  verbs.push_back(cli::add_krige(app));
   verbs.push_back(cli::add_variogram(app));
   verbs.push_back(cli::add_fit(app));
+  verbs.push_back(cli::add_crossval(app));
+  verbs.push_back(cli::add_krige(app));
+  verbs.push_back(cli::add_run(app));
 
   try {
     app.parse(argc, argv);

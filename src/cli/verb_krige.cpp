@@ -55,7 +55,7 @@ VerbRunner add_krige(CLI::App& app) {
     KrigingArgs kriging;
     NeighbourhoodOptions neighbourhood;
     GridOptions grid;
-    std::string mask, output, format;
+    std::string mask, blocks, output, format;
     bool overwrite = false;
     OutputArgs out;
   };
@@ -71,6 +71,8 @@ VerbRunner add_krige(CLI::App& app) {
       ->delimiter(',');
   verb->add_option("--like", a->grid.like, "Template raster giving size, cells and CRS");
   verb->add_option("--mask", a->mask, "Polygons: nodes outside them are nodata");
+  verb->add_option("--blocks", a->blocks,
+                   "Block models: estimate only the cells holding a point of this list (x,y,z)");
   verb->add_option("-o,--output", a->output,
                    "Output raster (.tif, any GDAL format), or .csv/.gpkg for a block table")
       ->required();
@@ -127,7 +129,11 @@ VerbRunner add_krige(CLI::App& app) {
     const Progress progress = terminal_progress(a->out.quiet);
     KrigingSummary summary;
     if (table) {
-      summary = krige_table(engine, grid, {a->output, a->overwrite}, progress);
+      TableTarget t;
+      t.path = a->output;
+      t.overwrite = a->overwrite;
+      t.blocks = a->blocks;
+      summary = krige_table(engine, grid, t, progress);
     } else {
       RasterTarget target;
       target.path = a->output;

@@ -15,6 +15,7 @@ using VerbRunner = std::function<int()>;
 VerbRunner add_inspect(CLI::App& app);
 VerbRunner add_crossval(CLI::App& app);
 VerbRunner add_krige(CLI::App& app);
+VerbRunner add_run(CLI::App& app);
 VerbRunner add_variogram(CLI::App& app);
 VerbRunner add_fit(CLI::App& app);
 

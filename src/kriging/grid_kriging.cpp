@@ -88,6 +88,46 @@ class Mask {
   std::vector<std::unique_ptr<OGRGeometry>> geometries_;
 };
 
+// The cells of `grid` that hold at least one point of a block list.
+std::vector<unsigned char> listed_blocks(const std::string& path, const GridSpec& g) {
+  GDALAllRegister();
+  std::unique_ptr<GDALDataset> ds(GDALDataset::Open(path.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY,
+                                                    nullptr, nullptr, nullptr));
+  if (!ds || ds->GetLayerCount() < 1)
+    throw InputError(kComponent, path + ": cannot be read as a list of blocks");
+  OGRLayer* layer = ds->GetLayer(0);
+  OGRFeatureDefn* defn = layer->GetLayerDefn();
+  const int fx = defn->GetFieldIndex("x"), fy = defn->GetFieldIndex("y"), fz = defn->GetFieldIndex("z");
+  const bool fields = fx >= 0 && fy >= 0;
+  std::vector<unsigned char> keep(static_cast<std::size_t>(g.nodes()), 0);
+  for (auto& f : *layer) {
+    double x, y, z = g.zmin + g.dz / 2;
+    if (fields) {
+      x = f->GetFieldAsDouble(fx);
+      y = f->GetFieldAsDouble(fy);
+      if (fz >= 0) z = f->GetFieldAsDouble(fz);
+    } else if (const OGRGeometry* geom = f->GetGeometryRef(); geom && wkbFlatten(geom->getGeometryType()) == wkbPoint) {
+      const OGRPoint* p = geom->toPoint();
+      x = p->getX();
+      y = p->getY();
+      if (p->Is3D()) z = p->getZ();
+    } else {
+      throw InputError(kComponent, path + ", feature " + std::to_string(f->GetFID()) +
+                                       ": a block list needs x, y[, z] columns or point geometries");
+    }
+    const double col = std::floor((x - g.xmin) / g.dx), row = std::floor((g.ymax - y) / g.dy),
+                 layer_index = g.dimension == 3 ? std::floor((z - g.zmin) / g.dz) : 0.0;
+    if (col < 0 || row < 0 || layer_index < 0 || col >= static_cast<double>(g.nx) ||
+        row >= static_cast<double>(g.ny) || layer_index >= static_cast<double>(g.nz))
+      continue;
+    // Table order: x fastest, then y ascending (south to north), then z.
+    const auto i = static_cast<std::int64_t>(layer_index) * g.nx * g.ny +
+                   (g.ny - 1 - static_cast<std::int64_t>(row)) * g.nx + static_cast<std::int64_t>(col);
+    keep[static_cast<std::size_t>(i)] = 1;
+  }
+  return keep;
+}
+
 // Krigs `count` nodes given by `node(i) -> Point`, in parallel, into `out`.
 template <class NodeAt>
 void krige_nodes(const KrigingEngine& engine, std::int64_t count, const NodeAt& node,
@@ -135,7 +175,7 @@ std::vector<std::string> describe(const KrigingSummary& s) {
   auto line = [&out](std::int64_t n, const std::string& text) {
     if (n > 0) out.push_back(std::to_string(n) + " " + text);
   };
-  line(s.masked, "node(s) outside the mask: nodata");
+  line(s.masked, "node(s) outside the mask or block list: nodata or left out");
   line(s.too_few_neighbours, "node(s) with fewer samples than --min-points in the search: nodata");
   line(s.singular, "node(s) whose kriging system was singular or badly conditioned "
                    "(near-duplicate samples, or a gaussian model without nugget): nodata");
@@ -239,20 +279,28 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
     if (layer->StartTransaction() != OGRERR_NONE) throw std::runtime_error("cannot write " + out.temp_path());
   }
 
+  std::vector<unsigned char> listed;
+  if (!target.blocks.empty()) listed = listed_blocks(target.blocks, grid);
+
   KrigingSummary summary;
   summary.threads = thread_count(engine.options().threads);
   std::vector<std::unique_ptr<KrigingEngine::Workspace>> workspaces;
   for (int i = 0; i < summary.threads; ++i) workspaces.push_back(engine.make_workspace());
   const std::int64_t per_layer = grid.nx * grid.ny;
+  std::vector<unsigned char> layer_listed;
   std::vector<NodeEstimate> block;
   for (std::int64_t layer_index = 0; layer_index < grid.nz; ++layer_index) {
     // Rows ascend in y (south to north) in the table.
     auto node = [&](std::int64_t i) {
       return Point{grid.x(i % grid.nx), grid.y(grid.ny - 1 - i / grid.nx), grid.dimension == 3 ? grid.z(layer_index) : 0.0};
     };
-    krige_nodes(engine, per_layer, node, nullptr, workspaces, block, summary.threads);
+    if (!listed.empty())
+      layer_listed.assign(listed.begin() + layer_index * per_layer, listed.begin() + (layer_index + 1) * per_layer);
+    krige_nodes(engine, per_layer, node, listed.empty() ? nullptr : &layer_listed, workspaces, block,
+                summary.threads);
     tally(block, summary);
     for (std::int64_t i = 0; i < per_layer; ++i) {
+      if (!layer_listed.empty() && !layer_listed[static_cast<std::size_t>(i)]) continue;  // not listed
       const NodeEstimate& e = block[static_cast<std::size_t>(i)];
       const NodeOutput o = engine.finish(e);
       const Point p = node(i);

@@ -189,6 +189,12 @@ Study read_study(const std::string& path) {
   auto& c = sections["crossval"];
   c["folds"] = [&](const toml::node& n, const std::string& k) { st.crossval.folds = r.integer(n, k); };
   c["skip"] = [&](const toml::node& n, const std::string& k) { st.crossval_enabled = !r.boolean(n, k); };
+  // Alternatives are read after [kriging], whose options they modify.
+  const toml::node* also_node = nullptr;
+  c["also"] = [&](const toml::node& n, const std::string& k) {
+    if (!n.is_array()) r.fail(n, k, "expected an array of tables, e.g. [{ label = \"ok\", method = \"ordinary\" }]");
+    also_node = &n;
+  };
 
   auto& nb = sections["neighbourhood"];
   NeighbourhoodOptions& no = st.neighbourhood;
@@ -204,6 +210,7 @@ Study read_study(const std::string& path) {
   g["extent"] = [&](const toml::node& n, const std::string& k) { st.grid.extent = r.numbers(n, k); };
   g["like"] = [&](const toml::node& n, const std::string& k) { st.grid.like = resolve(r.string(n, k)); };
   g["mask"] = [&](const toml::node& n, const std::string& k) { st.mask = resolve(r.string(n, k)); };
+  g["blocks"] = [&](const toml::node& n, const std::string& k) { st.blocks = resolve(r.string(n, k)); };
 
   auto& kr = sections["kriging"];
   KrigingOptions& ko = st.kriging;
@@ -252,6 +259,28 @@ Study read_study(const std::string& path) {
       h->second(value, name + "." + k);
     }
   }
+  if (also_node) {
+    for (const auto& item : *also_node->as_array()) {
+      const toml::table* t = item.as_table();
+      if (!t) r.fail(item, "crossval.also", "expected a table { label = ..., method = ... }");
+      KrigingAlternative alt;
+      alt.options = st.kriging;
+      for (const auto& [key, value] : *t) {
+        const std::string name = "crossval.also." + std::string(key.str());
+        if (key == "label") alt.label = r.string(value, name);
+        else if (key == "method") alt.options.method = r.named<KrigingMethod>(value, name);
+        else if (key == "drift") alt.options.drift = r.named<Drift>(value, name);
+        else if (key == "external_drift") alt.options.external_drift = resolve(r.string(value, name));
+        else if (key == "transform") alt.options.transform = r.named<Transform>(value, name);
+        else r.fail(value, name, "unknown key (keys of an alternative: label, method, drift, external_drift, transform)");
+      }
+      if (alt.label.empty()) r.fail(item, "crossval.also", "each alternative needs a label");
+      // A drift belongs to universal kriging: another method drops the study's.
+      if (alt.options.method != KrigingMethod::universal && !t->contains("drift"))
+        alt.options.drift = Drift::none;
+      st.crossval_also.push_back(alt);
+    }
+  }
   if (so.path.empty())
     throw InputError("study", path + ": [samples] needs path = \"...\" (the samples file)");
   if (so.values.empty())
@@ -286,12 +315,17 @@ std::string study_settings_json(const Study& st) {
   j["model"] = {{"kind", kinds[static_cast<int>(st.model.kind)]}, {"spec", st.model.spec},
                 {"structures", st.model.structures}, {"weights", st.model.weights},
                 {"fix", st.model.fix}};
-  j["crossval"] = {{"folds", st.crossval.folds}, {"skip", !st.crossval_enabled}};
+  json also = json::array();
+  for (const auto& a : st.crossval_also)
+    also.push_back({{"label", a.label}, {"method", name_of(a.options.method)},
+                    {"drift", name_of(a.options.drift)}, {"external_drift", a.options.external_drift},
+                    {"transform", name_of(a.options.transform)}});
+  j["crossval"] = {{"folds", st.crossval.folds}, {"skip", !st.crossval_enabled}, {"also", also}};
   j["neighbourhood"] = {{"max_points", no.max_points}, {"min_points", no.min_points},
                         {"radius", no.radius}, {"sectors", no.sectors},
                         {"max_per_sector", no.max_per_sector}, {"global", no.global}};
   j["grid"] = {{"cell", st.grid.cell}, {"extent", st.grid.extent}, {"like", st.grid.like},
-               {"mask", st.mask}};
+               {"mask", st.mask}, {"blocks", st.blocks}};
   j["kriging"] = {{"method", name_of(ko.method)}, {"mean", num(ko.mean)},
                   {"drift", name_of(ko.drift)}, {"external_drift", ko.external_drift},
                   {"block", ko.block}, {"discretise", ko.discretise},

@@ -1,0 +1,72 @@
+// sillstone/report.hpp -- the self-contained HTML report of a study.
+//
+// One file, no network, no external files: plots are inline SVG, maps are
+// PNG data inside them (plots.hpp). It carries the data summary, the
+// variograms with the fitted model, the fit table, the cross-validation, the
+// maps with legends, scale and north arrow, exceedance areas or a
+// grade-tonnage table, the settings and the inputs' checksums, and the
+// caution every report must carry. docs/report.md describes each section.
+#pragma once
+
+#include <string>
+#include <vector>
+
+#include "sillstone/crossval.hpp"
+#include "sillstone/grid.hpp"
+#include "sillstone/kriging.hpp"
+#include "sillstone/model.hpp"
+#include "sillstone/samples.hpp"
+#include "sillstone/study.hpp"
+#include "sillstone/summary.hpp"
+#include "sillstone/variogram.hpp"
+
+namespace sillstone {
+
+/// Everything the report shows; pointers are to the run's objects (not owned).
+struct ReportInput {
+  const Study* study = nullptr;
+  const SampleSet* samples = nullptr;
+  const DataSummary* summary = nullptr;
+  const EmpiricalVariogram* variogram = nullptr;
+  const ModelFile* model = nullptr;
+  std::string fit_table;                       ///< the fit's table as text; empty when given
+  const CrossValidationResult* crossval = nullptr;  ///< null when skipped
+  /// Other kriging set-ups compared by cross-validation: (label, summary).
+  std::vector<std::pair<std::string, CrossValidationSummary>> alternatives;
+  const KrigingOptions* kriging = nullptr;
+  const GridSpec* grid = nullptr;
+  const KrigingSummary* kriging_summary = nullptr;
+  std::string map_path;                        ///< estimate.tif (2D) or blocks.csv (3D)
+  std::vector<std::pair<std::string, std::string>> inputs;  ///< (path, sha256)
+  std::vector<std::string> warnings, notes;
+  std::string version;
+};
+
+/// The caution paragraph that README and every report carry (plain text).
+std::string caution_text();
+
+/// Areas (2D) where the exceedance probability is above each level, from a
+/// probability band: cells above the level times the cell area.
+struct ExceedanceArea {
+  double level = 0;
+  std::int64_t cells = 0;
+  double area = 0;  ///< CRS units squared
+};
+std::vector<ExceedanceArea> exceedance_areas(const std::string& raster, int band,
+                                             const std::vector<double>& levels);
+
+/// Tonnage and mean grade above cut-offs from block estimates.
+struct GradeTonnageRow {
+  double cutoff = 0;
+  std::int64_t blocks = 0;
+  double tonnage = 0;     ///< blocks x block volume x density
+  double mean_grade = 0;  ///< NaN when no block is above the cut-off
+};
+std::vector<GradeTonnageRow> grade_tonnage(const std::vector<double>& block_grades,
+                                           double block_volume, double density,
+                                           const std::vector<double>& cutoffs);
+
+/// The whole report as one HTML document.
+std::string render_report(const ReportInput& input);
+
+}  // namespace sillstone
