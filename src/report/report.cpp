@@ -305,10 +305,10 @@ void variogram_section(Html& h, const ReportInput& in) {
     const Structure& longest = *std::max_element(
         m.structures().begin(), m.structures().end(),
         [](const Structure& a, const Structure& b) { return a.range < b.range; });
-    vp.series.front().label = "omnidirectional; model along the major axis";
+    vp.series.front().label = "omnidirectional, model: major axis";
     curve(longest.anisotropy.azimuth, 0, vp.series.front());
     VariogramSeries minor;
-    minor.label = "model along the minor axis";
+    minor.label = "model: minor axis";
     curve(longest.anisotropy.azimuth + 90, 0, minor);
     vp.series.push_back(minor);
   }
@@ -484,7 +484,8 @@ void block_section(Html& h, const ReportInput& in) {
   }
   const auto gt = grade_tonnage(grades, volume, density, cutoffs);
   h.p("Blocks of " + num(grid.dx) + " × " + num(grid.dy) + " × " + num(grid.dz) + " " + units +
-      " (" + num(volume) + " " + units + "³), " + std::to_string(grid.nodes()) + " in all; density " +
+      " (" + num(volume) + " " + units + "³), " + std::to_string(grades.size()) + " in the table" +
+      (st.blocks.empty() ? std::string() : " (the block list " + esc(st.blocks) + ")") + "; density " +
       (st.report.density > 0 ? num(density) + " t/m³ (from [report] density)"
                              : std::string("not given, so tonnage is volume × 1")) + ".");
   std::vector<std::vector<std::string>> rows;
@@ -494,7 +495,9 @@ void block_section(Html& h, const ReportInput& in) {
   dp.left_label = "tonnage above cut-off (t)";
   dp.right_label = "mean grade above cut-off";
   for (const auto& r : gt) {
-    rows.push_back({num(r.cutoff), std::to_string(r.blocks), num(r.tonnage, 6), num(r.mean_grade)});
+    std::ostringstream tonnes;
+    tonnes << std::fixed << std::setprecision(0) << r.tonnage;
+    rows.push_back({num(r.cutoff), std::to_string(r.blocks), tonnes.str(), num(r.mean_grade)});
     dp.x.push_back(r.cutoff);
     dp.left.push_back(r.tonnage);
     dp.right.push_back(r.mean_grade);
