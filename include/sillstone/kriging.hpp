@@ -85,6 +85,10 @@ struct NodeOutput {
   double efficiency = std::numeric_limits<double>::quiet_NaN();  ///< kriging efficiency (C00 - sigma^2) / C00
 };
 
+namespace detail {
+class CovarianceKernel;
+}
+
 class KrigingEngine {
  public:
   /// Prepares kriging of value column `column` of `samples`. Throws InputError
@@ -107,7 +111,14 @@ class KrigingEngine {
     std::vector<std::uint32_t> nb, factored_nb;
     bool have_factor = false;
     NodeEstimate::Status factor_status = NodeEstimate::Status::ok;
-    std::vector<double> L, F, B, S, k, a, f0, r, lambda, drift;
+    // The factorisation of the system of `factored_nb`: K = LL' (L column-major,
+    // leading dimension ld, with the inverses of its diagonal), w = L^-1 z,
+    // G = L^-1 F (column c at c * ld), S = G'G (Cholesky factor), G'w.
+    std::size_t ld = 0;
+    std::vector<double> L, inv_diag, w, G, S, Gw;
+    // Per target: k, y = L^-1 k, G'y, f0, r = G'y - f0 then mu, the weights.
+    std::vector<double> k, y, Gy, f0, r, lambda, drift;
+    std::vector<double> lag_x, lag_y, lag_z, block_cov;  // lags for batched covariances
   };
   std::unique_ptr<Workspace> make_workspace() const;
 
@@ -151,6 +162,7 @@ class KrigingEngine {
   double mean_ = std::numeric_limits<double>::quiet_NaN();
   int drift_terms_ = 0;            // p: columns of F
   std::unique_ptr<NeighbourSearch> search_;
+  std::unique_ptr<detail::CovarianceKernel> kernel_;  // batched covariances (models with a sill)
   std::unique_ptr<External> external_raster_;
   std::vector<std::string> notes_;
 
@@ -160,7 +172,8 @@ class KrigingEngine {
   NodeEstimate estimate_intrinsic(const Point& centred_target, Workspace& ws, double external,
                                   std::vector<std::pair<std::uint32_t, double>>* weights,
                                   NodeEstimate& e) const;
-  void complete(const Workspace& ws, double mu_f0,
+  void factorise(Workspace& ws) const;
+  void complete(const Workspace& ws, double est, double lk, double mu_f0,
                 std::vector<std::pair<std::uint32_t, double>>* weights, NodeEstimate& e) const;
 };
 

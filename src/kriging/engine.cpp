@@ -11,6 +11,7 @@
 #include <sstream>
 
 #include "kriging/dense.hpp"
+#include "models/kernel.hpp"
 #include "sillstone/error.hpp"
 #include "sillstone/kriging.hpp"
 #include "sillstone/names.hpp"
@@ -136,12 +137,16 @@ std::unique_ptr<KrigingEngine::Workspace> KrigingEngine::make_workspace() const 
   const auto p = static_cast<std::size_t>(drift_terms_);
   ws->nb.reserve(n);
   ws->factored_nb.reserve(n);
-  ws->L.reserve(n * n);
-  ws->F.reserve(n * p);
-  ws->B.reserve(n * p);
-  ws->S.reserve(p * p);
-  for (auto* v : {&ws->k, &ws->a, &ws->lambda}) v->reserve(n);
-  for (auto* v : {&ws->f0, &ws->r, &ws->drift}) v->reserve(p);
+  ws->ld = n;
+  ws->L.resize(n * n);
+  ws->G.resize(n * p);
+  ws->S.resize(p * p);
+  for (auto* v : {&ws->inv_diag, &ws->w}) v->resize(n);
+  for (auto* v : {&ws->k, &ws->y, &ws->lambda}) v->reserve(n);
+  for (auto* v : {&ws->Gw, &ws->Gy, &ws->drift}) v->resize(p);
+  for (auto* v : {&ws->f0, &ws->r}) v->reserve(p);
+  const std::size_t lags = std::max(n, discretisation_.size());
+  for (auto* v : {&ws->lag_x, &ws->lag_y, &ws->lag_z, &ws->block_cov}) v->resize(lags);
   return ws;
 }
 
@@ -150,6 +155,7 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
                              const KrigingOptions& options,
                              const NeighbourhoodOptions& neighbourhood, std::size_t column)
     : model_(model), options_(options), dimension_(samples.dimension) {
+  if (model.has_sill()) kernel_ = std::make_unique<detail::CovarianceKernel>(model);
   std::string why;
   if (!options.is_valid(dimension_, model, &why)) throw InputError(kComponent, why);
   if (!neighbourhood.is_valid(dimension_, &why)) throw InputError(kComponent, why);
@@ -381,81 +387,130 @@ NodeEstimate KrigingEngine::estimate(const Point& target, Workspace& ws, std::in
 
   // Factorise K (and the drift's Schur complement) unless the neighbour set
   // is the one factorised last: neighbouring nodes often share it.
-  if (!ws.have_factor || ws.nb != ws.factored_nb) {
-    ws.factored_nb = ws.nb;
-    ws.have_factor = true;
-    ws.factor_status = NodeEstimate::Status::ok;
-    ws.L.resize(n * n);
-    for (std::size_t j = 0; j < n; ++j) {
-      const Point& pj = points_[ws.nb[j]];
-      for (std::size_t i = j; i < n; ++i) {
-        const Point& pi = points_[ws.nb[i]];
-        ws.L[j * n + i] = cov(pi.x - pj.x, pi.y - pj.y, pi.z - pj.z);
-      }
-    }
-    if (!detail::cholesky(ws.L.data(), n, kPivotTol)) {
-      ws.factor_status = NodeEstimate::Status::singular;
-    } else if (p > 0) {
-      ws.F.resize(n * p);
-      ws.B.resize(n * p);
-      ws.drift.resize(p);
-      for (std::size_t i = 0; i < n; ++i) {
-        const std::uint32_t s = ws.nb[i];
-        drift_row(points_[s], external_.empty() ? 0.0 : external_[s], ws.drift.data());
-        for (std::size_t c = 0; c < p; ++c) ws.F[c * n + i] = ws.drift[c];
-      }
-      std::copy(ws.F.begin(), ws.F.end(), ws.B.begin());
-      for (std::size_t c = 0; c < p; ++c) detail::cholesky_solve(ws.L.data(), n, ws.B.data() + c * n);
-      ws.S.resize(p * p);
-      for (std::size_t c = 0; c < p; ++c)
-        for (std::size_t r = c; r < p; ++r) {
-          double s = 0;
-          for (std::size_t i = 0; i < n; ++i) s += ws.F[r * n + i] * ws.B[c * n + i];
-          ws.S[c * p + r] = s;
-        }
-      if (!detail::cholesky(ws.S.data(), p, 1e-10)) ws.factor_status = NodeEstimate::Status::drift_unresolved;
-    }
-  }
+  if (!ws.have_factor || ws.nb != ws.factored_nb) factorise(ws);
   if (ws.factor_status != NodeEstimate::Status::ok) {
     e.status = ws.factor_status;
     return e;
   }
 
+  // With K = LL', y = L^-1 k, w = L^-1 z, G = L^-1 F and S = G'G (the last
+  // three kept with the factorisation):
+  //   mu = S^-1 (G'y - f0),  Z* = w'y - (G'w)'mu,  lambda'k = y'y - mu'G'y,
+  // the same solution as lambda = K^-1 (k - F mu) written out, but one
+  // triangular solve per node instead of two, and the weights themselves
+  // only when asked for.
   right_hand_side(t, ws, external);
-  ws.a.assign(ws.k.begin(), ws.k.end());
-  detail::cholesky_solve(ws.L.data(), n, ws.a.data());  // a = K^-1 k
-  ws.lambda.assign(ws.a.begin(), ws.a.end());
+  ws.y.assign(ws.k.begin(), ws.k.end());
+  detail::forward_solve(ws.L.data(), ws.ld, n, ws.inv_diag.data(), ws.y.data());
+  double est = detail::dot(ws.w.data(), ws.y.data(), n);
+  double lk = detail::dot(ws.y.data(), ws.y.data(), n);
   double mu_f0 = 0;
   if (p > 0) {
-    ws.r.resize(p);  // r = F'a - f0, then mu = S^-1 r
+    ws.r.resize(p);  // r = G'y - f0, then mu = S^-1 r
     for (std::size_t c = 0; c < p; ++c) {
-      double s = 0;
-      for (std::size_t i = 0; i < n; ++i) s += ws.F[c * n + i] * ws.a[i];
-      ws.r[c] = s - ws.f0[c];
+      ws.Gy[c] = detail::dot(ws.G.data() + c * ws.ld, ws.y.data(), n);
+      ws.r[c] = ws.Gy[c] - ws.f0[c];
     }
     detail::cholesky_solve(ws.S.data(), p, ws.r.data());
     for (std::size_t c = 0; c < p; ++c) {
-      for (std::size_t i = 0; i < n; ++i) ws.lambda[i] -= ws.B[c * n + i] * ws.r[c];
+      est -= ws.Gw[c] * ws.r[c];
+      lk -= ws.r[c] * ws.Gy[c];
       mu_f0 += ws.r[c] * ws.f0[c];
     }
     e.lagrange = ws.r[0];
   }
-
-  complete(ws, mu_f0, weights, e);
+  if (weights) {  // lambda = L'^-1 (y - G mu)
+    ws.lambda.assign(ws.y.begin(), ws.y.end());
+    for (std::size_t c = 0; c < p; ++c)
+      for (std::size_t i = 0; i < n; ++i) ws.lambda[i] -= ws.G[c * ws.ld + i] * ws.r[c];
+    detail::backward_solve(ws.L.data(), ws.ld, n, ws.inv_diag.data(), ws.lambda.data());
+  }
+  complete(ws, drift_terms_ == 0 ? mean_ + est : est, lk, mu_f0, weights, e);
   return e;
+}
+
+// Factorises the system of the neighbours in ws.nb: L (each column of K
+// evaluated in one batch of covariances), then w = L^-1 z, G = L^-1 F and
+// the Cholesky factor of S = G'G.
+void KrigingEngine::factorise(Workspace& ws) const {
+  const std::size_t n = ws.nb.size();
+  const auto p = static_cast<std::size_t>(drift_terms_);
+  const std::size_t ld = ws.ld;
+  ws.factored_nb = ws.nb;
+  ws.have_factor = true;
+  ws.factor_status = NodeEstimate::Status::ok;
+  const double* dz = dimension_ == 3 ? ws.lag_z.data() : nullptr;
+  for (std::size_t j = 0; j < n; ++j) {  // column j of the lower triangle, in one batch
+    const Point& pj = points_[ws.nb[j]];
+    for (std::size_t i = j; i < n; ++i) {
+      const Point& pi = points_[ws.nb[i]];
+      ws.lag_x[i - j] = pi.x - pj.x;
+      ws.lag_y[i - j] = pi.y - pj.y;
+      ws.lag_z[i - j] = pi.z - pj.z;
+    }
+    kernel_->evaluate(n - j, ws.lag_x.data(), ws.lag_y.data(), dz, ws.L.data() + j * ld + j);
+  }
+  if (!detail::cholesky_ld(ws.L.data(), ld, n, ws.inv_diag.data(), ws.block_cov.data(), kPivotTol)) {
+    ws.factor_status = NodeEstimate::Status::singular;
+    return;
+  }
+  const bool simple = p == 0;
+  for (std::size_t i = 0; i < n; ++i) ws.w[i] = simple ? values_[ws.nb[i]] - mean_ : values_[ws.nb[i]];
+  detail::forward_solve(ws.L.data(), ld, n, ws.inv_diag.data(), ws.w.data());
+  if (p == 0) return;
+  for (std::size_t i = 0; i < n; ++i) {
+    const std::uint32_t s = ws.nb[i];
+    drift_row(points_[s], external_.empty() ? 0.0 : external_[s], ws.drift.data());
+    for (std::size_t c = 0; c < p; ++c) ws.G[c * ld + i] = ws.drift[c];
+  }
+  for (std::size_t c = 0; c < p; ++c) {
+    double* g = ws.G.data() + c * ld;
+    detail::forward_solve(ws.L.data(), ld, n, ws.inv_diag.data(), g);
+    ws.Gw[c] = detail::dot(g, ws.w.data(), n);
+  }
+  for (std::size_t c = 0; c < p; ++c)
+    for (std::size_t r = c; r < p; ++r)
+      ws.S[c * p + r] = detail::dot(ws.G.data() + r * ld, ws.G.data() + c * ld, n);
+  if (!detail::cholesky(ws.S.data(), p, 1e-10)) ws.factor_status = NodeEstimate::Status::drift_unresolved;
 }
 
 void KrigingEngine::right_hand_side(const Point& t, Workspace& ws, double external) const {
   const std::size_t n = ws.nb.size();
   const auto p = static_cast<std::size_t>(drift_terms_);
   const double nd = static_cast<double>(discretisation_.size());
-  ws.k.assign(n, 0.0);
-  for (std::size_t i = 0; i < n; ++i) {
-    const Point& pi = points_[ws.nb[i]];
-    double s = 0;
-    for (const Point& d : discretisation_)
-      s += cov(pi.x - (t.x + d.x), pi.y - (t.y + d.y), pi.z - (t.z + d.z));
-    ws.k[i] = s / nd;
+  ws.k.resize(n);
+  const double* dz = dimension_ == 3 ? ws.lag_z.data() : nullptr;
+  if (!kernel_) {  // intrinsic models: the generalised covariance -gamma
+    for (std::size_t i = 0; i < n; ++i) {
+      const Point& pi = points_[ws.nb[i]];
+      double s = 0;
+      for (const Point& d : discretisation_)
+        s += cov(pi.x - (t.x + d.x), pi.y - (t.y + d.y), pi.z - (t.z + d.z));
+      ws.k[i] = s / nd;
+    }
+  } else if (discretisation_.size() == 1) {  // point kriging: one batch of n lags
+    for (std::size_t i = 0; i < n; ++i) {
+      const Point& pi = points_[ws.nb[i]];
+      ws.lag_x[i] = pi.x - t.x;
+      ws.lag_y[i] = pi.y - t.y;
+      ws.lag_z[i] = pi.z - t.z;
+    }
+    kernel_->evaluate(n, ws.lag_x.data(), ws.lag_y.data(), dz, ws.k.data());
+  } else {  // block kriging: per sample, one batch over the discretisation points
+    const std::size_t nd_points = discretisation_.size();
+    for (std::size_t i = 0; i < n; ++i) {
+      const Point& pi = points_[ws.nb[i]];
+      for (std::size_t d = 0; d < nd_points; ++d) {
+        const Point& o = discretisation_[d];
+        ws.lag_x[d] = pi.x - (t.x + o.x);
+        ws.lag_y[d] = pi.y - (t.y + o.y);
+        ws.lag_z[d] = pi.z - (t.z + o.z);
+      }
+      kernel_->evaluate(nd_points, ws.lag_x.data(), ws.lag_y.data(), dz, ws.block_cov.data());
+      double s = 0;
+      for (std::size_t d = 0; d < nd_points; ++d) s += ws.block_cov[d];
+      ws.k[i] = s / nd;
+    }
   }
   ws.f0.assign(p, 0.0);
   ws.drift.resize(p);
@@ -502,29 +557,28 @@ NodeEstimate KrigingEngine::estimate_intrinsic(
   double mu_f0 = 0;
   for (std::size_t c = 0; c < p; ++c) mu_f0 += x(static_cast<Eigen::Index>(n + c)) * ws.f0[c];
   e.lagrange = x(static_cast<Eigen::Index>(n));
-  complete(ws, mu_f0, weights, e);
+  double est = 0, lk = 0;
+  for (std::size_t i = 0; i < n; ++i) {
+    est += ws.lambda[i] * values_[ws.nb[i]];
+    lk += ws.lambda[i] * ws.k[i];
+  }
+  complete(ws, est, lk, mu_f0, weights, e);
   return e;
 }
 
-// Estimate, variance and the figures that follow from the weights.
-void KrigingEngine::complete(const Workspace& ws, double mu_f0,
+// Estimate, variance and the figures that follow from the weights:
+// `est` the estimate, `lk` = lambda'k, `mu_f0` = mu'f0.
+void KrigingEngine::complete(const Workspace& ws, double est, double lk, double mu_f0,
                              std::vector<std::pair<std::uint32_t, double>>* weights,
                              NodeEstimate& e) const {
   const std::size_t n = ws.nb.size();
-  const bool simple = drift_terms_ == 0;
-  double est = 0, lk = 0;
-  for (std::size_t i = 0; i < n; ++i) {
-    const double z = values_[ws.nb[i]];
-    est += ws.lambda[i] * (simple ? z - mean_ : z);
-    lk += ws.lambda[i] * ws.k[i];
-  }
-  e.estimate = simple ? mean_ + est : est;
+  e.estimate = est;
   e.weighted_cov = lk;
   e.weights_var = lk - mu_f0;  // lambda'K lambda, since K lambda = k - F mu and F'lambda = f0
   double var = target_variance_ - lk - mu_f0;
   // Rounding can leave a tiny negative variance at data locations.
   double scale = std::abs(target_variance_);  // the size of the numbers in the system
-  for (double c : ws.k) scale = std::max(scale, std::abs(c));
+  for (std::size_t i = 0; i < n; ++i) scale = std::max(scale, std::abs(ws.k[i]));
   if (var < 0 && var > -1e-9 * scale) var = 0;
   e.variance = var;
   e.status = std::isfinite(e.estimate) && std::isfinite(var) && var >= 0
