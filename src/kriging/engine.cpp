@@ -365,14 +365,13 @@ NodeEstimate KrigingEngine::estimate(const Point& target, Workspace& ws, std::in
   }
   const Point t{target.x - origin_.x, target.y - origin_.y,
                 dimension_ == 3 ? target.z - origin_.z : 0.0};
-  const std::size_t n = search_->find(t, ws.nb, ws.search, exclude);
   // The system is built in ascending sample order, not closest first: the
   // solution does not depend on the order, and a canonical order lets the
   // factorisation be reused whenever the next node has the same neighbour
   // SET (the distance order changes far more often than the set does).
   // Being a function of the set alone, the factorisation, and so every
   // result, is independent of which node or thread computed it first.
-  std::sort(ws.nb.begin(), ws.nb.end());
+  const std::size_t n = search_->find_set(t, ws.nb, ws.search, exclude);
   e.neighbours = static_cast<int>(n);
   const auto p = static_cast<std::size_t>(drift_terms_);
   const auto min_points = static_cast<std::size_t>(

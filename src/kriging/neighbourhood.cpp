@@ -50,22 +50,194 @@ int NeighbourSearch::sector_of(const Point& from, const Point& to) const {
 
 std::size_t NeighbourSearch::find(const Point& target, std::vector<std::uint32_t>& out,
                                   Workspace& ws, std::int64_t exclude) const {
+  if (options_.global) return find_set(target, out, ws, exclude);
+  const Point q = to_search_space(target);
+  if (options_.sectors > 1 && options_.max_per_sector > 0) return find_sectored(q, out, ws, exclude);
+  const std::size_t n = find_nearest(q, out, ws, exclude);
+  // Closest first, ties by index (find_nearest gives ascending indices).
+  std::vector<std::pair<double, std::uint32_t>> order;
+  for (std::uint32_t i : out) {
+    const Point& p = shaped_[i];
+    const double dx = q.x - p.x, dy = q.y - p.y, dz = q.z - p.z;
+    order.push_back({dx * dx + dy * dy + (dimension_ == 3 ? dz * dz : 0.0), i});
+  }
+  std::sort(order.begin(), order.end());
+  for (std::size_t i = 0; i < n; ++i) out[i] = order[i].second;
+  return n;
+}
+
+std::size_t NeighbourSearch::find_set(const Point& target, std::vector<std::uint32_t>& out,
+                                      Workspace& ws, std::int64_t exclude) const {
   out.clear();
-  const std::size_t n = shaped_.size();
   if (options_.global) {
+    const std::size_t n = shaped_.size();
     for (std::uint32_t i = 0; i < n; ++i)
       if (static_cast<std::int64_t>(i) != exclude) out.push_back(i);
     return out.size();
   }
   const Point q = to_search_space(target);
+  if (options_.sectors > 1 && options_.max_per_sector > 0) {
+    find_sectored(q, out, ws, exclude);
+    std::sort(out.begin(), out.end());
+    return out.size();
+  }
+  return find_nearest(q, out, ws, exclude);
+}
+
+// The `count` samples closest to `centre` (search metric) become the
+// candidates, in ascending index order; `reach` is the distance of the
+// farthest of them, so no other sample is closer than that to the centre
+// (+infinity when every sample is a candidate).
+void NeighbourSearch::fill_cache(const Point& centre, std::size_t count, Workspace& ws) const {
+  const std::size_t n = shaped_.size();
+  count = std::min(count, n);
+  ws.index.resize(count);
+  ws.distance.resize(count);
+  const double qv[3] = {centre.x, centre.y, centre.z};
+  const std::size_t found = index_->nearest(qv, count, ws.index.data(), ws.distance.data());
+  ws.candidates.assign(ws.index.begin(), ws.index.begin() + static_cast<std::ptrdiff_t>(found));
+  std::sort(ws.candidates.begin(), ws.candidates.end());
+  ws.cx.resize(found);
+  ws.cy.resize(found);
+  ws.cz.resize(found);
+  for (std::size_t i = 0; i < found; ++i) {
+    const Point& p = shaped_[ws.candidates[i]];
+    ws.cx[i] = p.x;
+    ws.cy[i] = p.y;
+    ws.cz[i] = p.z;
+  }
+  ws.chosen.clear();  // positions changed: the next choice starts afresh
+  ws.centre = centre;
+  ws.reach = found >= n ? std::numeric_limits<double>::infinity()
+                        : (found > 0 ? ws.distance[found - 1] : 0.0);
+}
+
+// The k nearest samples within the radius, ties by index, in ascending
+// index order. They are chosen among the cached candidates, which is exact
+// when the k-th chosen (or the radius, if smaller) lies strictly closer to
+// the target than any non-candidate can: every non-candidate is at least
+// reach - s away, s being the target's distance from the cache's centre
+// (triangle inequality). Otherwise the cache is refilled around the target
+// (a little ahead of it along the direction the targets move, so that it
+// serves the next nodes of a grid row too) and the choice is made again.
+std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint32_t>& out,
+                                          Workspace& ws, std::int64_t exclude) const {
+  const std::size_t n = shaped_.size();
+  const auto want = static_cast<std::size_t>(options_.max_points);
+  const double radius =
+      options_.radius > 0 ? options_.radius : std::numeric_limits<double>::infinity();
+  const bool three = dimension_ == 3;
+  // Candidates: four times the neighbours. Any count above want + 1 gives
+  // the same answers; this one serves about one search radius of a row.
+  std::size_t size = std::min(n, std::max<std::size_t>(4 * want, want + 16));
+  out.clear();
+  for (int attempt = 0;; ++attempt) {
+    if (attempt > 0 || ws.reach < 0) {
+      Point centre = q;
+      const double vx = q.x - ws.last.x, vy = q.y - ws.last.y, vz = q.z - ws.last.z;
+      const double step = std::sqrt(vx * vx + vy * vy + vz * vz);
+      if (attempt == 0 && step > 0 && step < 0.5 * ws.last_kth) {
+        const double ahead = 0.6 * ws.last_kth / step;
+        centre = {q.x + ahead * vx, q.y + ahead * vy, q.z + ahead * vz};
+      }
+      if (attempt >= 2) size = attempt >= 6 ? n : std::min(n, 2 * size);  // ties past the cache
+      fill_cache(centre, size, ws);
+    }
+    const std::size_t m = ws.candidates.size();
+    const double sx = q.x - ws.centre.x, sy = q.y - ws.centre.y, sz = q.z - ws.centre.z;
+    const double s = std::sqrt(sx * sx + sy * sy + sz * sz);
+    if (m < n && !(s < ws.reach)) continue;  // outside the cache's ball
+    ws.d2.resize(m);
+    std::size_t eligible = m;
+    for (std::size_t i = 0; i < m; ++i) {
+      const double dx = q.x - ws.cx[i], dy = q.y - ws.cy[i];
+      const double dz = three ? q.z - ws.cz[i] : 0.0;
+      ws.d2[i] = dx * dx + dy * dy + dz * dz;
+    }
+    if (exclude >= 0) {
+      const auto it = std::lower_bound(ws.candidates.begin(), ws.candidates.end(),
+                                       static_cast<std::uint64_t>(exclude));
+      if (it != ws.candidates.end() && *it == static_cast<std::uint64_t>(exclude)) {
+        ws.d2[static_cast<std::size_t>(it - ws.candidates.begin())] =
+            std::numeric_limits<double>::infinity();
+        --eligible;
+      }
+    }
+    // Choose the k nearest: ws.chosen[i] marks candidate i. Nearby targets
+    // mostly share them, so the last choice is repaired first (swap the
+    // farthest chosen with the closest unchosen while the former is
+    // farther); a full selection only when that does not settle it.
+    const std::size_t k = std::min(want, eligible);
+    double kth2 = 0;
+    bool settled = false;
+    if (ws.chosen.size() == m && ws.chosen_count == k && k > 0 && k < m) {
+      for (int swaps = 0; swaps < 4; ++swaps) {
+        double max_in = -1, min_out = std::numeric_limits<double>::infinity();
+        for (std::size_t i = 0; i < m; ++i) {
+          const double d = ws.d2[i];
+          max_in = std::max(max_in, ws.chosen[i] ? d : -1.0);
+          min_out = std::min(min_out, ws.chosen[i] ? std::numeric_limits<double>::infinity() : d);
+        }
+        if (max_in < min_out) {  // strictly: no tie at the boundary
+          kth2 = max_in;
+          settled = true;
+          break;
+        }
+        if (max_in == min_out) break;  // a tie: the full selection breaks it by index
+        std::size_t out_at = m, in_at = m;
+        for (std::size_t i = 0; i < m && (in_at == m || out_at == m); ++i) {
+          if (ws.chosen[i] && ws.d2[i] == max_in && in_at == m) in_at = i;
+          if (!ws.chosen[i] && ws.d2[i] == min_out && out_at == m) out_at = i;
+        }
+        ws.chosen[in_at] = 0;
+        ws.chosen[out_at] = 1;
+      }
+    }
+    if (!settled) {
+      // The k-th smallest squared distance; then all below it, and of those
+      // exactly as far, the lowest indices.
+      if (k > 0) {
+        ws.keys.assign(ws.d2.begin(), ws.d2.end());
+        std::nth_element(ws.keys.begin(), ws.keys.begin() + static_cast<std::ptrdiff_t>(k - 1),
+                         ws.keys.end());
+        kth2 = ws.keys[k - 1];
+      }
+      std::size_t closer = 0;
+      for (std::size_t i = 0; i < m; ++i) closer += ws.d2[i] < kth2 ? 1 : 0;
+      std::size_t level = k - std::min(k, closer);  // how many at exactly kth2
+      ws.chosen.assign(m, 0);
+      for (std::size_t i = 0; i < m && k > 0; ++i) {
+        const double d = ws.d2[i];
+        if (d < kth2 || (d == kth2 && level > 0)) {
+          if (!(d < kth2)) --level;
+          ws.chosen[i] = 1;
+        }
+      }
+    }
+    ws.chosen_count = k;
+    // Exact when every non-candidate is strictly farther than the k-th
+    // chosen or the radius (a relative margin covers rounding).
+    const double bound = std::min(std::sqrt(kth2), radius);
+    if (m < n && !(k == want && bound < (ws.reach - s) * (1 - 1e-12))) continue;
+    const bool limited = std::isfinite(radius);
+    for (std::size_t i = 0; i < m; ++i)
+      if (ws.chosen[i] && (!limited || std::sqrt(ws.d2[i]) <= radius))
+        out.push_back(ws.candidates[i]);
+    ws.last = q;
+    ws.last_kth = std::sqrt(kth2);
+    return out.size();
+  }
+}
+
+// With sectors: samples in order of distance, skipping those whose sector
+// is full; ask the tree for more and widen until enough are kept.
+std::size_t NeighbourSearch::find_sectored(const Point& q, std::vector<std::uint32_t>& out,
+                                           Workspace& ws, std::int64_t exclude) const {
+  const std::size_t n = shaped_.size();
   const double qv[3] = {q.x, q.y, q.z};
   const double radius = options_.radius > 0 ? options_.radius : std::numeric_limits<double>::infinity();
   const auto want = static_cast<std::size_t>(options_.max_points);
-  const bool sectored = options_.sectors > 1 && options_.max_per_sector > 0;
-  // Without sectors the k nearest are the answer; with sectors some may be
-  // skipped, so ask for more and widen until enough are kept or all are seen.
-  std::size_t k = std::min(n, want + (exclude >= 0 ? 1 : 0));
-  if (sectored) k = std::min(n, std::max(k, 4 * want));
+  std::size_t k = std::min(n, std::max(want + (exclude >= 0 ? 1 : 0), 4 * want));
   int per_sector[8];
   for (;;) {
     ws.index.resize(k);
@@ -81,11 +253,9 @@ std::size_t NeighbourSearch::find(const Point& target, std::vector<std::uint32_t
       }
       const std::uint32_t j = ws.index[i];
       if (static_cast<std::int64_t>(j) == exclude) continue;
-      if (sectored) {
-        int& c = per_sector[sector_of(q, shaped_[j])];
-        if (c >= options_.max_per_sector) continue;
-        ++c;
-      }
+      int& c = per_sector[sector_of(q, shaped_[j])];
+      if (c >= options_.max_per_sector) continue;
+      ++c;
       out.push_back(j);
     }
     if (out.size() >= want || beyond_radius || found < k || k >= n) break;
