@@ -108,8 +108,19 @@ class KrigingEngine {
   /// Its members are internal to the engine.
   struct Workspace {
     NeighbourSearch::Workspace search;
-    std::vector<std::uint32_t> nb, factored_nb;
+    std::vector<std::uint32_t> nb, factored_nb, factored_sorted, removed, added;
     bool have_factor = false;
+    /// When true, a factorisation is UPDATED when a few samples leave or
+    /// join the neighbour set (a rank-one update per sample out, one more
+    /// row per sample in) instead of being recomputed. Results then depend,
+    /// by rounding, on the targets estimated since the last restart():
+    /// callers that need results independent of threads restart at fixed
+    /// points (grid kriging: every chunk of nodes). Off: every result is a
+    /// function of its neighbour set alone.
+    bool incremental = false;
+    int updates = 0;  // since the last full factorisation
+    /// Forgets the factorisation: the next target starts afresh.
+    void restart() { have_factor = false; }
     NodeEstimate::Status factor_status = NodeEstimate::Status::ok;
     // The factorisation of the system of `factored_nb`: K = LL' (L column-major,
     // leading dimension ld, with the inverses of its diagonal), w = L^-1 z,
@@ -119,6 +130,7 @@ class KrigingEngine {
     // Per target: k, y = L^-1 k, G'y, f0, r = G'y - f0 then mu, the weights.
     std::vector<double> k, y, Gy, f0, r, lambda, drift;
     std::vector<double> lag_x, lag_y, lag_z, block_cov;  // lags for batched covariances
+    std::vector<double> column, extra;                   // scratch of the updates
   };
   std::unique_ptr<Workspace> make_workspace() const;
 
@@ -173,6 +185,10 @@ class KrigingEngine {
                                   std::vector<std::pair<std::uint32_t, double>>* weights,
                                   NodeEstimate& e) const;
   void factorise(Workspace& ws) const;
+  bool update_factor(Workspace& ws) const;
+  void remove_from_factor(Workspace& ws, std::size_t j) const;
+  bool append_to_factor(Workspace& ws, std::uint32_t sample) const;
+  void finish_factor(Workspace& ws) const;
   void complete(const Workspace& ws, double est, double lk, double mu_f0,
                 std::vector<std::pair<std::uint32_t, double>>* weights, NodeEstimate& e) const;
 };

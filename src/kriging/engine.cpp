@@ -6,6 +6,7 @@
 #include <Eigen/Dense>
 
 #include <algorithm>
+#include <iterator>
 #include <cmath>
 #include <limits>
 #include <sstream>
@@ -137,6 +138,9 @@ std::unique_ptr<KrigingEngine::Workspace> KrigingEngine::make_workspace() const 
   const auto p = static_cast<std::size_t>(drift_terms_);
   ws->nb.reserve(n);
   ws->factored_nb.reserve(n);
+  ws->factored_sorted.reserve(n);
+  ws->column.resize(n + 1);
+  ws->extra.resize(p + 1);
   ws->ld = n;
   ws->L.resize(n * n);
   ws->G.resize(n * p);
@@ -386,7 +390,13 @@ NodeEstimate KrigingEngine::estimate(const Point& target, Workspace& ws, std::in
 
   // Factorise K (and the drift's Schur complement) unless the neighbour set
   // is the one factorised last: neighbouring nodes often share it.
-  if (!ws.have_factor || ws.nb != ws.factored_nb) factorise(ws);
+  if (!ws.have_factor) {
+    factorise(ws);
+  } else if (ws.nb != ws.factored_sorted) {
+    if (!ws.incremental || !update_factor(ws)) factorise(ws);
+  }
+  // From here on the system's order is the factorisation's.
+  ws.nb.assign(ws.factored_nb.begin(), ws.factored_nb.end());
   if (ws.factor_status != NodeEstimate::Status::ok) {
     e.status = ws.factor_status;
     return e;
@@ -436,7 +446,9 @@ void KrigingEngine::factorise(Workspace& ws) const {
   const auto p = static_cast<std::size_t>(drift_terms_);
   const std::size_t ld = ws.ld;
   ws.factored_nb = ws.nb;
+  ws.factored_sorted = ws.nb;
   ws.have_factor = true;
+  ws.updates = 0;
   ws.factor_status = NodeEstimate::Status::ok;
   const double* dz = dimension_ == 3 ? ws.lag_z.data() : nullptr;
   for (std::size_t j = 0; j < n; ++j) {  // column j of the lower triangle, in one batch
@@ -456,21 +468,152 @@ void KrigingEngine::factorise(Workspace& ws) const {
   const bool simple = p == 0;
   for (std::size_t i = 0; i < n; ++i) ws.w[i] = simple ? values_[ws.nb[i]] - mean_ : values_[ws.nb[i]];
   detail::forward_solve(ws.L.data(), ld, n, ws.inv_diag.data(), ws.w.data());
-  if (p == 0) return;
-  for (std::size_t i = 0; i < n; ++i) {
+  for (std::size_t i = 0; i < n && p > 0; ++i) {
     const std::uint32_t s = ws.nb[i];
     drift_row(points_[s], external_.empty() ? 0.0 : external_[s], ws.drift.data());
     for (std::size_t c = 0; c < p; ++c) ws.G[c * ld + i] = ws.drift[c];
   }
-  for (std::size_t c = 0; c < p; ++c) {
-    double* g = ws.G.data() + c * ld;
-    detail::forward_solve(ws.L.data(), ld, n, ws.inv_diag.data(), g);
-    ws.Gw[c] = detail::dot(g, ws.w.data(), n);
-  }
+  for (std::size_t c = 0; c < p; ++c)
+    detail::forward_solve(ws.L.data(), ld, n, ws.inv_diag.data(), ws.G.data() + c * ld);
+  finish_factor(ws);
+}
+
+// G'w, S = G'G and the Cholesky factor of S, from w and G.
+void KrigingEngine::finish_factor(Workspace& ws) const {
+  const std::size_t n = ws.factored_nb.size();
+  const auto p = static_cast<std::size_t>(drift_terms_);
+  const std::size_t ld = ws.ld;
+  ws.factor_status = NodeEstimate::Status::ok;
+  for (std::size_t c = 0; c < p; ++c) ws.Gw[c] = detail::dot(ws.G.data() + c * ld, ws.w.data(), n);
   for (std::size_t c = 0; c < p; ++c)
     for (std::size_t r = c; r < p; ++r)
       ws.S[c * p + r] = detail::dot(ws.G.data() + r * ld, ws.G.data() + c * ld, n);
   if (!detail::cholesky(ws.S.data(), p, 1e-10)) ws.factor_status = NodeEstimate::Status::drift_unresolved;
+}
+
+// Brings the factorisation from the set ws.factored_sorted to ws.nb (both in
+// ascending order) by updates, when only a few samples differ: each sample
+// that left is removed (its row and column deleted, the trailing block
+// restored by a rank-one update), each that joined is appended as a last
+// row (one forward substitution). Updates cost O(n^2) against O(n^3) for a
+// new factorisation and evaluate n covariances per new sample instead of
+// n^2 / 2. Returns false (the caller then factorises afresh) when too much
+// changed, after 32 updates (so that rounding cannot accumulate), or when
+// the last factorisation failed or an appended pivot fails the test.
+bool KrigingEngine::update_factor(Workspace& ws) const {
+  if (ws.factor_status != NodeEstimate::Status::ok) return false;
+  ws.removed.clear();
+  ws.added.clear();
+  std::set_difference(ws.factored_sorted.begin(), ws.factored_sorted.end(), ws.nb.begin(),
+                      ws.nb.end(), std::back_inserter(ws.removed));
+  std::set_difference(ws.nb.begin(), ws.nb.end(), ws.factored_sorted.begin(),
+                      ws.factored_sorted.end(), std::back_inserter(ws.added));
+  const std::size_t changes = ws.removed.size() + ws.added.size();
+  if (4 * changes > ws.nb.size() + 4 || ws.updates + static_cast<int>(changes) > 32) return false;
+  for (std::uint32_t s : ws.removed) {
+    const auto at = std::find(ws.factored_nb.begin(), ws.factored_nb.end(), s);
+    remove_from_factor(ws, static_cast<std::size_t>(at - ws.factored_nb.begin()));
+  }
+  for (std::uint32_t s : ws.added)
+    if (!append_to_factor(ws, s)) return false;
+  ws.updates += static_cast<int>(changes);
+  ws.factored_sorted.assign(ws.nb.begin(), ws.nb.end());
+  finish_factor(ws);
+  return ws.factor_status == NodeEstimate::Status::ok;
+}
+
+// Deletes sample j from the factorisation. With L = [L11 0 0; l21' l22 0;
+// L31 l32 L33], the factor without row and column j is [L11 0; L31 L33~]
+// with L33~ L33~' = L33 L33' + l32 l32', a rank-one update done by plane
+// rotations (stable: nothing is subtracted). w and the columns of G are the
+// extra rows of the factor of the matrix bordered by z and F, so the same
+// rotations update them, with w_j and G_j as their entries of l32.
+void KrigingEngine::remove_from_factor(Workspace& ws, std::size_t j) const {
+  const std::size_t n = ws.factored_nb.size();
+  const auto p = static_cast<std::size_t>(drift_terms_);
+  const std::size_t ld = ws.ld;
+  double* L = ws.L.data();
+  double* x = ws.column.data();
+  for (std::size_t i = j + 1; i < n; ++i) x[i - 1] = L[j * ld + i];  // l32, new indices
+  for (std::size_t c = 0; c < j; ++c)  // rows below j move up
+    std::copy(L + c * ld + j + 1, L + c * ld + n, L + c * ld + j);
+  for (std::size_t c = j + 1; c < n; ++c)  // columns right of j move left (and up)
+    std::copy(L + c * ld + c, L + c * ld + n, L + (c - 1) * ld + (c - 1));
+  double* e = ws.extra.data();  // entries of the extra rows in column j
+  e[0] = ws.w[j];
+  std::copy(ws.w.begin() + static_cast<std::ptrdiff_t>(j + 1), ws.w.begin() + static_cast<std::ptrdiff_t>(n),
+            ws.w.begin() + static_cast<std::ptrdiff_t>(j));
+  for (std::size_t c = 0; c < p; ++c) {
+    double* g = ws.G.data() + c * ld;
+    e[c + 1] = g[j];
+    std::copy(g + j + 1, g + n, g + j);
+  }
+  ws.factored_nb.erase(ws.factored_nb.begin() + static_cast<std::ptrdiff_t>(j));
+  const std::size_t m = n - 1;
+  for (std::size_t k = j; k < m; ++k) {
+    double* ck = L + k * ld;
+    const double lkk = ck[k];
+    const double r = std::sqrt(lkk * lkk + x[k] * x[k]);
+    const double cs = r / lkk, sn = x[k] / lkk;
+    ck[k] = r;
+    ws.inv_diag[k] = 1 / r;
+    for (std::size_t i = k + 1; i < m; ++i) {
+      ck[i] = (ck[i] + sn * x[i]) / cs;
+      x[i] = cs * x[i] - sn * ck[i];
+    }
+    double& wk = ws.w[k];
+    wk = (wk + sn * e[0]) / cs;
+    e[0] = cs * e[0] - sn * wk;
+    for (std::size_t c = 0; c < p; ++c) {
+      double& gk = ws.G[c * ld + k];
+      gk = (gk + sn * e[c + 1]) / cs;
+      e[c + 1] = cs * e[c + 1] - sn * gk;
+    }
+  }
+}
+
+// Appends `sample` as the last row: l = L^-1 k_s by forward substitution,
+// then the pivot, w's and G's new entries, in the order a full
+// factorisation would add them. False when the pivot fails the test.
+bool KrigingEngine::append_to_factor(Workspace& ws, std::uint32_t sample) const {
+  const std::size_t m = ws.factored_nb.size();
+  const auto p = static_cast<std::size_t>(drift_terms_);
+  const std::size_t ld = ws.ld;
+  double* L = ws.L.data();
+  const Point& ps = points_[sample];
+  for (std::size_t i = 0; i < m; ++i) {
+    const Point& pi = points_[ws.factored_nb[i]];
+    ws.lag_x[i] = ps.x - pi.x;
+    ws.lag_y[i] = ps.y - pi.y;
+    ws.lag_z[i] = ps.z - pi.z;
+  }
+  ws.lag_x[m] = ws.lag_y[m] = ws.lag_z[m] = 0;  // the diagonal: C(0)
+  double* l = ws.column.data();
+  kernel_->evaluate(m + 1, ws.lag_x.data(), ws.lag_y.data(),
+                    dimension_ == 3 ? ws.lag_z.data() : nullptr, l);
+  const double diag = l[m];
+  detail::forward_solve(L, ld, m, ws.inv_diag.data(), l);
+  double d = diag;
+  for (std::size_t k = 0; k < m; ++k) d -= l[k] * l[k];
+  if (!(d > kPivotTol * std::abs(diag))) return false;
+  for (std::size_t k = 0; k < m; ++k) L[k * ld + m] = l[k];
+  const double lmm = std::sqrt(d);
+  L[m * ld + m] = lmm;
+  ws.inv_diag[m] = 1 / lmm;
+  double t = drift_terms_ == 0 ? values_[sample] - mean_ : values_[sample];
+  for (std::size_t k = 0; k < m; ++k) t -= ws.w[k] * l[k];
+  ws.w[m] = t * ws.inv_diag[m];
+  if (p > 0) {
+    drift_row(ps, external_.empty() ? 0.0 : external_[sample], ws.drift.data());
+    for (std::size_t c = 0; c < p; ++c) {
+      double* g = ws.G.data() + c * ld;
+      double u = ws.drift[c];
+      for (std::size_t k = 0; k < m; ++k) u -= g[k] * l[k];
+      g[m] = u * ws.inv_diag[m];
+    }
+  }
+  ws.factored_nb.push_back(sample);
+  return true;
 }
 
 void KrigingEngine::right_hand_side(const Point& t, Workspace& ws, double external) const {

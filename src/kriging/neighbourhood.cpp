@@ -127,9 +127,10 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
   const double radius =
       options_.radius > 0 ? options_.radius : std::numeric_limits<double>::infinity();
   const bool three = dimension_ == 3;
-  // Candidates: four times the neighbours. Any count above want + 1 gives
-  // the same answers; this one serves about one search radius of a row.
-  std::size_t size = std::min(n, std::max<std::size_t>(4 * want, want + 16));
+  // Candidates: three times the neighbours. Any count above want + 1 gives
+  // the same answers; 2.5 to 4 times were equally fast on dense data
+  // (50,000 samples, 10 m cells), 6 times slower.
+  std::size_t size = std::min(n, std::max<std::size_t>(3 * want, want + 16));
   out.clear();
   for (int attempt = 0;; ++attempt) {
     if (attempt > 0 || ws.reach < 0) {
@@ -173,10 +174,14 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
     if (ws.chosen.size() == m && ws.chosen_count == k && k > 0 && k < m) {
       for (int swaps = 0; swaps < 4; ++swaps) {
         double max_in = -1, min_out = std::numeric_limits<double>::infinity();
+        const double* d2 = ws.d2.data();
+        const unsigned char* chosen = ws.chosen.data();
+#pragma omp simd reduction(max : max_in) reduction(min : min_out)
         for (std::size_t i = 0; i < m; ++i) {
-          const double d = ws.d2[i];
-          max_in = std::max(max_in, ws.chosen[i] ? d : -1.0);
-          min_out = std::min(min_out, ws.chosen[i] ? std::numeric_limits<double>::infinity() : d);
+          const double d = d2[i];
+          const bool in = chosen[i] != 0;
+          max_in = std::max(max_in, in ? d : -1.0);
+          min_out = std::min(min_out, in ? std::numeric_limits<double>::infinity() : d);
         }
         if (max_in < min_out) {  // strictly: no tie at the boundary
           kth2 = max_in;

@@ -89,6 +89,14 @@ void RasterWriter::write_rows(int band, std::int64_t first_row, std::int64_t row
     throw std::runtime_error("writing " + impl_->path + " failed: " + CPLGetLastErrorMsg());
 }
 
+void RasterWriter::flush() {
+  if (!impl_->ds) return;
+  CPLErrorReset();  // GDAL 3.6 reports flush failures only through the error state
+  impl_->ds->FlushCache(false);
+  if (CPLGetLastErrorType() >= CE_Failure)
+    throw std::runtime_error("writing " + impl_->path + " failed: " + CPLGetLastErrorMsg());
+}
+
 void RasterWriter::close() {
   if (!impl_->ds) return;
   // GDAL 3.6 reports close-time write failures only through the error state.
