@@ -6,7 +6,7 @@ timed unit tests.
 
 Every benchmark makes its data with numpy at a fixed seed, runs
 `sillstone krige` / `sillstone crossval` (wall time and peak resident memory
-of the process, from wait4's rusage), and runs its peers in the same run:
+of the process, from GNU time), and runs its peers in the same run:
 
   numpy   the vectorised numpy/scipy local ordinary kriging of
           baseline_numpy.py (cKDTree neighbours, batched numpy.linalg.solve),
@@ -30,7 +30,6 @@ import argparse
 import json
 import os
 import platform
-import resource
 import shutil
 import subprocess
 import sys
@@ -86,20 +85,29 @@ def grid_nodes(nx, ny):
 
 # --- processes ----------------------------------------------------------------------------
 def run(args, env=None):
-    """Runs a command; returns (wall seconds, peak RSS in MiB, stdout)."""
+    """Runs a command; returns (wall seconds, peak RSS in MiB, stdout).
+
+    The peak RSS is GNU time's (/usr/bin/time -f %M): a child forked
+    straight from this (large) Python process would report the parent's
+    pages in its ru_maxrss. The wall time is measured here around it."""
     out = tempfile.TemporaryFile()
     err = tempfile.TemporaryFile()
+    rss = tempfile.NamedTemporaryFile(suffix=".rss", delete=False)
+    rss.close()
     t0 = time.perf_counter()
-    p = subprocess.Popen(args, stdout=out, stderr=err, env=env)
-    _, status, usage = os.wait4(p.pid, 0)
+    p = subprocess.Popen(["/usr/bin/time", "-f", "%M", "-o", rss.name] + args,
+                         stdout=out, stderr=err, env=env)
+    p.wait()
     wall = time.perf_counter() - t0
-    p.returncode = os.waitstatus_to_exitcode(status)
     out.seek(0)
     err.seek(0)
     text = out.read().decode()
+    with open(rss.name) as f:
+        peak_kib = float(f.read().strip().splitlines()[-1])
+    os.remove(rss.name)
     if p.returncode != 0:
         raise RuntimeError(f"{args[0]} failed ({p.returncode}): {err.read().decode()[-2000:]}")
-    return wall, usage.ru_maxrss / 1024.0, text
+    return wall, peak_kib / 1024.0, text
 
 
 def ours_krige(exe, samples, out, nx, ny, k, threads=THREADS):
