@@ -62,6 +62,7 @@ class NeighbourSearch {
     std::vector<double> distance;
     std::vector<std::uint32_t> candidates;
     std::vector<double> cx, cy, cz, d2, keys;
+    std::vector<std::pair<std::uint32_t, double>> pairs;  // the tree's radius search
     std::vector<unsigned char> chosen;  // the last choice among the candidates
     std::size_t chosen_count = 0;
     Point centre{0, 0, 0};
@@ -98,7 +99,7 @@ class NeighbourSearch {
                             std::int64_t exclude) const;
   std::size_t find_nearest(const Point& q, std::vector<std::uint32_t>& out, Workspace& ws,
                            std::int64_t exclude) const;
-  void fill_cache(const Point& centre, std::size_t count, Workspace& ws) const;
+  void fill_cache(const Point& centre, std::size_t count, double radius, Workspace& ws) const;
 };
 
 }  // namespace sillstone

@@ -557,8 +557,10 @@ void KrigingEngine::remove_from_factor(Workspace& ws, std::size_t j) const {
     const double cs = r / lkk, sn = x[k] / lkk;
     ck[k] = r;
     ws.inv_diag[k] = 1 / r;
+    const double inv_cs = lkk / r;
+#pragma omp simd
     for (std::size_t i = k + 1; i < m; ++i) {
-      ck[i] = (ck[i] + sn * x[i]) / cs;
+      ck[i] = (ck[i] + sn * x[i]) * inv_cs;
       x[i] = cs * x[i] - sn * ck[i];
     }
     double& wk = ws.w[k];

@@ -84,18 +84,31 @@ std::size_t NeighbourSearch::find_set(const Point& target, std::vector<std::uint
   return find_nearest(q, out, ws, exclude);
 }
 
-// The `count` samples closest to `centre` (search metric) become the
-// candidates, in ascending index order; `reach` is the distance of the
-// farthest of them, so no other sample is closer than that to the centre
-// (+infinity when every sample is a candidate).
-void NeighbourSearch::fill_cache(const Point& centre, std::size_t count, Workspace& ws) const {
+// The candidates around `centre` (search metric), in ascending index order,
+// and their `reach`: no other sample is closer than that to the centre.
+// With radius > 0, every sample closer than the radius (the tree's radius
+// search, which is cheaper than its k-nearest search for many points),
+// falling back to the nearest when that gives fewer than `count` / 2;
+// otherwise the `count` samples closest (reach: the farthest of them, or
+// +infinity when every sample is a candidate).
+void NeighbourSearch::fill_cache(const Point& centre, std::size_t count, double radius,
+                                 Workspace& ws) const {
   const std::size_t n = shaped_.size();
   count = std::min(count, n);
-  ws.index.resize(count);
-  ws.distance.resize(count);
   const double qv[3] = {centre.x, centre.y, centre.z};
-  const std::size_t found = index_->nearest(qv, count, ws.index.data(), ws.distance.data());
-  ws.candidates.assign(ws.index.begin(), ws.index.begin() + static_cast<std::ptrdiff_t>(found));
+  std::size_t found = 0;
+  if (radius > 0 && count < n) {
+    found = index_->within(qv, radius, ws.pairs, ws.candidates);
+    ws.reach = radius;
+  }
+  if (found < count / 2 || found > 4 * count) {  // no radius, or a poor guess
+    ws.index.resize(count);
+    ws.distance.resize(count);
+    found = index_->nearest(qv, count, ws.index.data(), ws.distance.data());
+    ws.candidates.assign(ws.index.begin(), ws.index.begin() + static_cast<std::ptrdiff_t>(found));
+    ws.reach = found >= n ? std::numeric_limits<double>::infinity()
+                          : (found > 0 ? ws.distance[found - 1] : 0.0);
+  }
   std::sort(ws.candidates.begin(), ws.candidates.end());
   ws.cx.resize(found);
   ws.cy.resize(found);
@@ -108,8 +121,6 @@ void NeighbourSearch::fill_cache(const Point& centre, std::size_t count, Workspa
   }
   ws.chosen.clear();  // positions changed: the next choice starts afresh
   ws.centre = centre;
-  ws.reach = found >= n ? std::numeric_limits<double>::infinity()
-                        : (found > 0 ? ws.distance[found - 1] : 0.0);
 }
 
 // The k nearest samples within the radius, ties by index, in ascending
@@ -132,17 +143,29 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
   // (50,000 samples, 10 m cells), 6 times slower.
   std::size_t size = std::min(n, std::max<std::size_t>(3 * want, want + 16));
   out.clear();
+  int refills = 0;  // in this call
   for (int attempt = 0;; ++attempt) {
     if (attempt > 0 || ws.reach < 0) {
+      // The first refill looks ahead along the targets' path and guesses
+      // the radius; any further one (rare) is centred on the target, by
+      // count, growing when ties reach past the cache.
+      const bool first = refills++ == 0;
       Point centre = q;
       const double vx = q.x - ws.last.x, vy = q.y - ws.last.y, vz = q.z - ws.last.z;
       const double step = std::sqrt(vx * vx + vy * vy + vz * vz);
-      if (attempt == 0 && step > 0 && step < 0.5 * ws.last_kth) {
+      if (first && step > 0 && step < 0.5 * ws.last_kth) {
         const double ahead = 0.6 * ws.last_kth / step;
         centre = {q.x + ahead * vx, q.y + ahead * vy, q.z + ahead * vz};
       }
-      if (attempt >= 2) size = attempt >= 6 ? n : std::min(n, 2 * size);  // ties past the cache
-      fill_cache(centre, size, ws);
+      if (refills >= 3) size = refills >= 7 ? n : std::min(n, 2 * size);  // ties past the cache
+      // Along a row, the last target's k-th distance tells the radius that
+      // holds about `size` samples (area or volume scales as r^dimension).
+      const double guess = first && ws.last_kth > 0
+                               ? ws.last_kth * std::pow(static_cast<double>(size) /
+                                                            static_cast<double>(want),
+                                                        1.0 / dimension_)
+                               : 0.0;
+      fill_cache(centre, size, guess, ws);
     }
     const std::size_t m = ws.candidates.size();
     const double sx = q.x - ws.centre.x, sy = q.y - ws.centre.y, sz = q.z - ws.centre.z;
@@ -150,10 +173,17 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
     if (m < n && !(s < ws.reach)) continue;  // outside the cache's ball
     ws.d2.resize(m);
     std::size_t eligible = m;
-    for (std::size_t i = 0; i < m; ++i) {
-      const double dx = q.x - ws.cx[i], dy = q.y - ws.cy[i];
-      const double dz = three ? q.z - ws.cz[i] : 0.0;
-      ws.d2[i] = dx * dx + dy * dy + dz * dz;
+    {
+      const double* cx = ws.cx.data();
+      const double* cy = ws.cy.data();
+      const double* cz = ws.cz.data();
+      double* d2 = ws.d2.data();
+#pragma omp simd
+      for (std::size_t i = 0; i < m; ++i) {
+        const double dx = q.x - cx[i], dy = q.y - cy[i];
+        const double dz = three ? q.z - cz[i] : 0.0;
+        d2[i] = dx * dx + dy * dy + dz * dz;
+      }
     }
     if (exclude >= 0) {
       const auto it = std::lower_bound(ws.candidates.begin(), ws.candidates.end(),
@@ -224,10 +254,18 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
     // chosen or the radius (a relative margin covers rounding).
     const double bound = std::min(std::sqrt(kth2), radius);
     if (m < n && !(k == want && bound < (ws.reach - s) * (1 - 1e-12))) continue;
-    const bool limited = std::isfinite(radius);
-    for (std::size_t i = 0; i < m; ++i)
-      if (ws.chosen[i] && (!limited || std::sqrt(ws.d2[i]) <= radius))
-        out.push_back(ws.candidates[i]);
+    if (std::isfinite(radius)) {
+      for (std::size_t i = 0; i < m; ++i)
+        if (ws.chosen[i] && std::sqrt(ws.d2[i]) <= radius) out.push_back(ws.candidates[i]);
+    } else {  // branch-free compaction of the chosen candidates
+      out.resize(m);
+      std::size_t j = 0;
+      for (std::size_t i = 0; i < m; ++i) {
+        out[j] = ws.candidates[i];
+        j += ws.chosen[i];
+      }
+      out.resize(j);
+    }
     ws.last = q;
     ws.last_kth = std::sqrt(kth2);
     return out.size();
