@@ -69,6 +69,11 @@ class NeighbourSearch {
     double reach = -1;  // < 0: no cache
     Point last{0, 0, 0};
     double last_kth = 0;  // distance of the last target's k-th neighbour
+    // The neighbours of `certified` and the gap between its k-th and
+    // (k+1)-th nearest sample (<= 0: none): they serve nearby targets.
+    Point certified{0, 0, 0};
+    double gap = -1;
+    std::vector<std::uint32_t> certified_set;
   };
 
   /// Fills `out` with the indices of the neighbours of `target`, closest

@@ -142,6 +142,21 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
   // the same answers; 2.5 to 4 times were equally fast on dense data
   // (50,000 samples, 10 m cells), 6 times slower.
   std::size_t size = std::min(n, std::max<std::size_t>(3 * want, want + 16));
+  // A target close to the last certified one has the same neighbours: when
+  // the k-th nearest was at d and every other sample at least d + gap, a
+  // move by delta changes every distance by at most delta (triangle
+  // inequality), so for 2 delta < gap the order across the boundary stays.
+  // (Only without a radius or an exclusion, which the certificate ignores.)
+  const bool certify = exclude < 0 && !std::isfinite(radius);
+  if (certify && ws.gap > 0) {
+    const double dx = q.x - ws.certified.x, dy = q.y - ws.certified.y, dz = q.z - ws.certified.z;
+    if (2 * std::sqrt(dx * dx + dy * dy + dz * dz) < ws.gap) {
+      out.assign(ws.certified_set.begin(), ws.certified_set.end());
+      ws.last = q;
+      return out.size();
+    }
+  }
+  ws.gap = -1;
   out.clear();
   int refills = 0;  // in this call
   for (int attempt = 0;; ++attempt) {
@@ -200,6 +215,7 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
     // farther); a full selection only when that does not settle it.
     const std::size_t k = std::min(want, eligible);
     double kth2 = 0;
+    double next2 = -1;  // the closest unchosen candidate's squared distance, when known
     bool settled = false;
     if (ws.chosen.size() == m && ws.chosen_count == k && k > 0 && k < m) {
       for (int swaps = 0; swaps < 4; ++swaps) {
@@ -215,6 +231,7 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
         }
         if (max_in < min_out) {  // strictly: no tie at the boundary
           kth2 = max_in;
+          next2 = min_out;
           settled = true;
           break;
         }
@@ -268,6 +285,23 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
     }
     ws.last = q;
     ws.last_kth = std::sqrt(kth2);
+    if (certify && k == want) {
+      if (next2 < 0) {
+        next2 = std::numeric_limits<double>::infinity();
+        for (std::size_t i = 0; i < m; ++i)
+          if (!ws.chosen[i]) next2 = std::min(next2, ws.d2[i]);
+      }
+      // The (k+1)-th is no closer than the closest unchosen candidate, nor
+      // than reach - s for the samples outside the cache; a relative margin
+      // covers rounding.
+      const double next = std::min(std::sqrt(next2), m < n ? ws.reach - s : std::numeric_limits<double>::infinity());
+      const double gap = (next - ws.last_kth) - 1e-9 * (next + ws.last_kth);
+      if (gap > 0 && std::isfinite(gap)) {
+        ws.gap = gap;
+        ws.certified = q;
+        ws.certified_set.assign(out.begin(), out.end());
+      }
+    }
     return out.size();
   }
 }
