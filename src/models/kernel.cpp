@@ -48,14 +48,17 @@ void CovarianceKernel::distances(const Shape& s, std::size_t count, const double
                                  const double* dy, const double* dz, double* h) const {
   if (s.isotropic) {  // any rotation of a sphere is the sphere
     if (dz) {
+#pragma omp simd
       for (std::size_t i = 0; i < count; ++i)
         h[i] = std::sqrt(dx[i] * dx[i] + dy[i] * dy[i] + dz[i] * dz[i]);
     } else {
+#pragma omp simd
       for (std::size_t i = 0; i < count; ++i) h[i] = std::sqrt(dx[i] * dx[i] + dy[i] * dy[i]);
     }
     return;
   }
   const auto& m = s.m;
+#pragma omp simd
   for (std::size_t i = 0; i < count; ++i) {
     const double z = dz ? dz[i] : 0.0;
     const double a = m[0][0] * dx[i] + m[0][1] * dy[i] + m[0][2] * z;
@@ -74,12 +77,14 @@ void CovarianceKernel::evaluate(std::size_t count, const double* dx, const doubl
     const double* y = dy + start;
     const double* z = dz ? dz + start : nullptr;
     double* o = out + start;
+#pragma omp simd
     for (std::size_t i = 0; i < m; ++i) o[i] = 0;
     int have = -1;  // the shape whose distances are in h
     for (const Term& t : terms_) {
       const CompiledStructure& c = t.compiled;
       const double sill = c.sill;
       if (c.family == Family::nugget) {  // C(0) only at a zero lag
+#pragma omp simd
         for (std::size_t i = 0; i < m; ++i) {
           const bool zero = x[i] == 0 && y[i] == 0 && (!z || z[i] == 0);
           o[i] += zero ? sill : 0.0;
@@ -96,12 +101,14 @@ void CovarianceKernel::evaluate(std::size_t count, const double* dx, const doubl
       // polynomials are exactly 1 at r = 1), without a branch.
       switch (c.family) {
         case Family::spherical:
+#pragma omp simd
           for (std::size_t i = 0; i < m; ++i) {
             const double r = std::min(h[i] * ir, 1.0);
             o[i] += sill * (1 - r * (1.5 - 0.5 * r * r));
           }
           break;
         case Family::cubic:
+#pragma omp simd
           for (std::size_t i = 0; i < m; ++i) {
             const double r = std::min(h[i] * ir, 1.0);
             o[i] += sill * (1 - r * r * (7 + r * (-35.0 / 4 + r * r * (7.0 / 2 - 3.0 / 4 * r * r))));
