@@ -537,8 +537,6 @@ void KrigingEngine::remove_from_factor(Workspace& ws, std::size_t j) const {
   for (std::size_t i = j + 1; i < n; ++i) x[i - 1] = L[j * ld + i];  // l32, new indices
   for (std::size_t c = 0; c < j; ++c)  // rows below j move up
     std::copy(L + c * ld + j + 1, L + c * ld + n, L + c * ld + j);
-  for (std::size_t c = j + 1; c < n; ++c)  // columns right of j move left (and up)
-    std::copy(L + c * ld + c, L + c * ld + n, L + (c - 1) * ld + (c - 1));
   double* e = ws.extra.data();  // entries of the extra rows in column j
   e[0] = ws.w[j];
   std::copy(ws.w.begin() + static_cast<std::ptrdiff_t>(j + 1), ws.w.begin() + static_cast<std::ptrdiff_t>(n),
@@ -550,9 +548,13 @@ void KrigingEngine::remove_from_factor(Workspace& ws, std::size_t j) const {
   }
   ws.factored_nb.erase(ws.factored_nb.begin() + static_cast<std::ptrdiff_t>(j));
   const std::size_t m = n - 1;
+  // New column k is old column k + 1 (rows shifted up by one), rotated as it
+  // is moved: one pass over the trailing block instead of a move and a
+  // rotation. Old column k was consumed by the step before (or is column j).
   for (std::size_t k = j; k < m; ++k) {
     double* ck = L + k * ld;
-    const double lkk = ck[k];
+    const double* old_column = L + (k + 1) * ld + 1;  // old row i + 1 at index i
+    const double lkk = old_column[k];
     const double r = std::sqrt(lkk * lkk + x[k] * x[k]);
     const double cs = r / lkk, sn = x[k] / lkk;
     ck[k] = r;
@@ -560,7 +562,7 @@ void KrigingEngine::remove_from_factor(Workspace& ws, std::size_t j) const {
     const double inv_cs = lkk / r;
 #pragma omp simd
     for (std::size_t i = k + 1; i < m; ++i) {
-      ck[i] = (ck[i] + sn * x[i]) * inv_cs;
+      ck[i] = (old_column[i] + sn * x[i]) * inv_cs;
       x[i] = cs * x[i] - sn * ck[i];
     }
     double& wk = ws.w[k];

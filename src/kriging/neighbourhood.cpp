@@ -236,11 +236,11 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
           break;
         }
         if (max_in == min_out) break;  // a tie: the full selection breaks it by index
-        std::size_t out_at = m, in_at = m;
-        for (std::size_t i = 0; i < m && (in_at == m || out_at == m); ++i) {
-          if (ws.chosen[i] && ws.d2[i] == max_in && in_at == m) in_at = i;
-          if (!ws.chosen[i] && ws.d2[i] == min_out && out_at == m) out_at = i;
-        }
+        // Both exist: they gave max_in and min_out. Two plain scans are
+        // cheaper than one with four conditions.
+        std::size_t in_at = 0, out_at = 0;
+        while (!(d2[in_at] == max_in && chosen[in_at])) ++in_at;
+        while (!(d2[out_at] == min_out && !chosen[out_at])) ++out_at;
         ws.chosen[in_at] = 0;
         ws.chosen[out_at] = 1;
       }
