@@ -185,7 +185,7 @@ KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
   // Two sets of buffers: while the threads krige one block, the previous one
   // is back-transformed, compressed and written on another thread (GDAL
   // compresses on the calling thread), so writing does not leave the
-  // kriging threads idle. Memory stays bounded: two blocks, and GDAL's
+  // kriging threads idle (with --threads 1 it is written in line). Memory stays bounded: two blocks, and GDAL's
   // cache flushed at every tile row.
   struct Buffers {
     std::vector<NodeEstimate> block;
@@ -221,7 +221,11 @@ KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
                 mask ? &inside : nullptr, workspaces, b.block, summary.threads);
     if (pending.valid()) pending.get();  // the previous block is written (or throws)
     if (progress && row0 > 0) progress(static_cast<double>(row0) / static_cast<double>(grid.ny));
-    pending = std::async(std::launch::async, write_block, std::ref(b), row0, rows);
+    // With one thread asked for, one thread it is: write in line.
+    if (summary.threads > 1)
+      pending = std::async(std::launch::async, write_block, std::ref(b), row0, rows);
+    else
+      write_block(b, row0, rows);
     current = 1 - current;
   }
   if (pending.valid()) pending.get();
