@@ -112,13 +112,15 @@ class KrigingEngine {
     bool have_factor = false;
     /// When true, a factorisation is UPDATED when a few samples leave or
     /// join the neighbour set (a rank-one update per sample out, one more
-    /// row per sample in) instead of being recomputed. Results then depend,
+    /// row per sample in) instead of being recomputed (at most
+    /// update_budget times, set from the system's conditioning). Results then depend,
     /// by rounding, on the targets estimated since the last restart():
     /// callers that need results independent of threads restart at fixed
     /// points (grid kriging: every chunk of nodes). Off: every result is a
     /// function of its neighbour set alone.
     bool incremental = false;
-    int updates = 0;  // since the last full factorisation
+    int updates = 0;        // since the last full factorisation
+    int update_budget = 0;  // updates allowed before the next (from the conditioning)
     /// Forgets the factorisation: the next target starts afresh.
     void restart() { have_factor = false; }
     NodeEstimate::Status factor_status = NodeEstimate::Status::ok;
@@ -186,6 +188,7 @@ class KrigingEngine {
                                   NodeEstimate& e) const;
   void factorise(Workspace& ws) const;
   bool update_factor(Workspace& ws) const;
+  int update_budget(const Workspace& ws) const;
   void remove_from_factor(Workspace& ws, std::size_t j) const;
   bool append_to_factor(Workspace& ws, std::uint32_t sample) const;
   void finish_factor(Workspace& ws) const;

@@ -449,6 +449,7 @@ void KrigingEngine::factorise(Workspace& ws) const {
   ws.factored_sorted = ws.nb;
   ws.have_factor = true;
   ws.updates = 0;
+  ws.update_budget = 0;  // set once factorised
   ws.factor_status = NodeEstimate::Status::ok;
   const double* dz = dimension_ == 3 ? ws.lag_z.data() : nullptr;
   for (std::size_t j = 0; j < n; ++j) {  // column j of the lower triangle, in one batch
@@ -476,6 +477,7 @@ void KrigingEngine::factorise(Workspace& ws) const {
   for (std::size_t c = 0; c < p; ++c)
     detail::forward_solve(ws.L.data(), ld, n, ws.inv_diag.data(), ws.G.data() + c * ld);
   finish_factor(ws);
+  ws.update_budget = update_budget(ws);
 }
 
 // G'w, S = G'G and the Cholesky factor of S, from w and G.
@@ -498,7 +500,8 @@ void KrigingEngine::finish_factor(Workspace& ws) const {
 // row (one forward substitution). Updates cost O(n^2) against O(n^3) for a
 // new factorisation and evaluate n covariances per new sample instead of
 // n^2 / 2. Returns false (the caller then factorises afresh) when too much
-// changed, after 32 updates (so that rounding cannot accumulate), or when
+// changed, after update_budget() updates (so that rounding cannot
+// accumulate), or when
 // the last factorisation failed or an appended pivot fails the test.
 bool KrigingEngine::update_factor(Workspace& ws) const {
   if (ws.factor_status != NodeEstimate::Status::ok) return false;
@@ -509,7 +512,8 @@ bool KrigingEngine::update_factor(Workspace& ws) const {
   std::set_difference(ws.nb.begin(), ws.nb.end(), ws.factored_sorted.begin(),
                       ws.factored_sorted.end(), std::back_inserter(ws.added));
   const std::size_t changes = ws.removed.size() + ws.added.size();
-  if (4 * changes > ws.nb.size() + 4 || ws.updates + static_cast<int>(changes) > 32) return false;
+  if (4 * changes > ws.nb.size() + 4 || ws.updates + static_cast<int>(changes) > ws.update_budget)
+    return false;
   for (std::uint32_t s : ws.removed) {
     const auto at = std::find(ws.factored_nb.begin(), ws.factored_nb.end(), s);
     remove_from_factor(ws, static_cast<std::size_t>(at - ws.factored_nb.begin()));
@@ -520,6 +524,26 @@ bool KrigingEngine::update_factor(Workspace& ws) const {
   ws.factored_sorted.assign(ws.nb.begin(), ws.nb.end());
   finish_factor(ws);
   return ws.factor_status == NodeEstimate::Status::ok;
+}
+
+// How many updates a factorisation may take before it is recomputed. Each
+// update adds rounding error of about eps cond(K); (max L_ii / min L_ii)^2,
+// a lower bound of cond(K), keeps the sum under about 1e-10 (relative):
+// 128 updates for a well-conditioned system (with a nugget: cond ~ 10^2),
+// down to 4 when cond reaches ~10^6. Without this bound every 16 changes
+// of a dense grid row cost a full factorisation.
+int KrigingEngine::update_budget(const Workspace& ws) const {
+  const std::size_t n = ws.factored_nb.size();
+  double lo = std::numeric_limits<double>::infinity(), hi = 0;
+  for (std::size_t i = 0; i < n; ++i) {
+    const double d = ws.L[i * ws.ld + i];
+    lo = std::min(lo, d);
+    hi = std::max(hi, d);
+  }
+  if (!(lo > 0)) return 0;
+  const double cond = (hi / lo) * (hi / lo);
+  const double budget = 1e-10 / (std::numeric_limits<double>::epsilon() * cond);
+  return static_cast<int>(std::clamp(budget, 4.0, 128.0));
 }
 
 // Deletes sample j from the factorisation. With L = [L11 0 0; l21' l22 0;
@@ -577,8 +601,8 @@ void KrigingEngine::remove_from_factor(Workspace& ws, std::size_t j) const {
 }
 
 // Appends `sample` as the last row: l = L^-1 k_s by forward substitution,
-// then the pivot, w's and G's new entries, in the order a full
-// factorisation would add them. False when the pivot fails the test.
+// then the pivot and w's and G's new entries. False when the pivot fails
+// the test.
 bool KrigingEngine::append_to_factor(Workspace& ws, std::uint32_t sample) const {
   const std::size_t m = ws.factored_nb.size();
   const auto p = static_cast<std::size_t>(drift_terms_);
@@ -597,23 +621,21 @@ bool KrigingEngine::append_to_factor(Workspace& ws, std::uint32_t sample) const 
                     dimension_ == 3 ? ws.lag_z.data() : nullptr, l);
   const double diag = l[m];
   detail::forward_solve(L, ld, m, ws.inv_diag.data(), l);
-  double d = diag;
-  for (std::size_t k = 0; k < m; ++k) d -= l[k] * l[k];
+  // The dot products are split over SIMD lanes (detail::dot): this row then
+  // differs from a full factorisation's by rounding only.
+  const double d = diag - detail::dot(l, l, m);
   if (!(d > kPivotTol * std::abs(diag))) return false;
   for (std::size_t k = 0; k < m; ++k) L[k * ld + m] = l[k];
   const double lmm = std::sqrt(d);
   L[m * ld + m] = lmm;
   ws.inv_diag[m] = 1 / lmm;
-  double t = drift_terms_ == 0 ? values_[sample] - mean_ : values_[sample];
-  for (std::size_t k = 0; k < m; ++k) t -= ws.w[k] * l[k];
-  ws.w[m] = t * ws.inv_diag[m];
+  const double z = drift_terms_ == 0 ? values_[sample] - mean_ : values_[sample];
+  ws.w[m] = (z - detail::dot(ws.w.data(), l, m)) * ws.inv_diag[m];
   if (p > 0) {
     drift_row(ps, external_.empty() ? 0.0 : external_[sample], ws.drift.data());
     for (std::size_t c = 0; c < p; ++c) {
       double* g = ws.G.data() + c * ld;
-      double u = ws.drift[c];
-      for (std::size_t k = 0; k < m; ++k) u -= g[k] * l[k];
-      g[m] = u * ws.inv_diag[m];
+      g[m] = (ws.drift[c] - detail::dot(g, l, m)) * ws.inv_diag[m];
     }
   }
   ws.factored_nb.push_back(sample);
