@@ -63,7 +63,9 @@ class NeighbourSearch {
     std::vector<std::uint32_t> candidates;
     std::vector<double> cx, cy, cz, d2, keys;
     std::vector<std::pair<std::uint32_t, double>> pairs;  // the tree's radius search
-    std::vector<unsigned char> chosen;  // the last choice among the candidates
+    // The last choice among the candidates, 1 or 0, as doubles so that the
+    // max/min pass over the candidates vectorises (bytes need widening).
+    std::vector<double> chosen;
     std::size_t chosen_count = 0;
     Point centre{0, 0, 0};
     double reach = -1;  // < 0: no cache

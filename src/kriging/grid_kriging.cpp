@@ -104,7 +104,7 @@ void krige_nodes(const KrigingEngine& engine, std::int64_t count, const NodeAt& 
   // node's result depends only on the fixed chunk it is in, never on which
   // thread ran the chunks before: results are identical for any thread
   // count.
-  constexpr std::int64_t kChunk = 128;
+  constexpr std::int64_t kChunk = 256;
   const std::int64_t chunks = (count + kChunk - 1) / kChunk;
 #pragma omp parallel num_threads(threads)
   {

@@ -204,8 +204,10 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
       const auto it = std::lower_bound(ws.candidates.begin(), ws.candidates.end(),
                                        static_cast<std::uint64_t>(exclude));
       if (it != ws.candidates.end() && *it == static_cast<std::uint64_t>(exclude)) {
+        // The largest finite double, not +inf: the repair pass below
+        // multiplies by 0, and inf * 0 would be NaN.
         ws.d2[static_cast<std::size_t>(it - ws.candidates.begin())] =
-            std::numeric_limits<double>::infinity();
+            std::numeric_limits<double>::max();
         --eligible;
       }
     }
@@ -221,14 +223,17 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
       for (int swaps = 0; swaps < 4; ++swaps) {
         double max_in = -1, min_out = std::numeric_limits<double>::infinity();
         const double* d2 = ws.d2.data();
-        const unsigned char* chosen = ws.chosen.data();
+        const double* chosen = ws.chosen.data();
+        // Arithmetic instead of selects, so that the loop vectorises:
+        // chosen is 1 or 0 and distances are finite and >= 0.
+        constexpr double kFar = 1e300;
 #pragma omp simd reduction(max : max_in) reduction(min : min_out)
         for (std::size_t i = 0; i < m; ++i) {
-          const double d = d2[i];
-          const bool in = chosen[i] != 0;
-          max_in = std::max(max_in, in ? d : -1.0);
-          min_out = std::min(min_out, in ? std::numeric_limits<double>::infinity() : d);
+          const double d = d2[i], c = chosen[i];
+          max_in = std::max(max_in, d * c - (1 - c));
+          min_out = std::min(min_out, d + c * kFar);
         }
+        if (!(min_out < kFar)) min_out = std::numeric_limits<double>::infinity();
         if (max_in < min_out) {  // strictly: no tie at the boundary
           kth2 = max_in;
           next2 = min_out;
@@ -239,8 +244,8 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
         // Both exist: they gave max_in and min_out. Two plain scans are
         // cheaper than one with four conditions.
         std::size_t in_at = 0, out_at = 0;
-        while (!(d2[in_at] == max_in && chosen[in_at])) ++in_at;
-        while (!(d2[out_at] == min_out && !chosen[out_at])) ++out_at;
+        while (!(d2[in_at] == max_in && chosen[in_at] != 0.0)) ++in_at;
+        while (!(d2[out_at] == min_out && chosen[out_at] == 0.0)) ++out_at;
         ws.chosen[in_at] = 0;
         ws.chosen[out_at] = 1;
       }
@@ -273,13 +278,13 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
     if (m < n && !(k == want && bound < (ws.reach - s) * (1 - 1e-12))) continue;
     if (std::isfinite(radius)) {
       for (std::size_t i = 0; i < m; ++i)
-        if (ws.chosen[i] && std::sqrt(ws.d2[i]) <= radius) out.push_back(ws.candidates[i]);
+        if (ws.chosen[i] != 0.0 && std::sqrt(ws.d2[i]) <= radius) out.push_back(ws.candidates[i]);
     } else {  // branch-free compaction of the chosen candidates
       out.resize(m);
       std::size_t j = 0;
       for (std::size_t i = 0; i < m; ++i) {
         out[j] = ws.candidates[i];
-        j += ws.chosen[i];
+        j += ws.chosen[i] != 0.0 ? 1 : 0;
       }
       out.resize(j);
     }
@@ -289,7 +294,7 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
       if (next2 < 0) {
         next2 = std::numeric_limits<double>::infinity();
         for (std::size_t i = 0; i < m; ++i)
-          if (!ws.chosen[i]) next2 = std::min(next2, ws.d2[i]);
+          if (ws.chosen[i] == 0.0) next2 = std::min(next2, ws.d2[i]);
       }
       // The (k+1)-th is no closer than the closest unchosen candidate, nor
       // than reach - s for the samples outside the cache; a relative margin
