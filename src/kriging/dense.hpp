@@ -62,10 +62,29 @@ inline bool cholesky_ld(double* a, std::size_t ld, std::size_t n, double* inv_di
   return true;
 }
 
-/// Solves L y = b in place (L from cholesky_ld()), column by column.
+/// Solves L y = b in place (L from cholesky_ld()), column by column, four
+/// columns per pass over b: each entry still receives its updates one at a
+/// time in column order, ((b_i - y_k L_ik) - y_k+1 L_i,k+1) - ..., exactly
+/// as one column at a time would give, with a quarter of the loop overhead
+/// and of the traffic on b.
 inline void forward_solve(const double* l, std::size_t ld, std::size_t n, const double* inv_diag,
                           double* b) {
-  for (std::size_t k = 0; k < n; ++k) {
+  std::size_t k = 0;
+  for (; k + 3 < n; k += 4) {
+    const double* c0 = l + k * ld;
+    const double* c1 = c0 + ld;
+    const double* c2 = c1 + ld;
+    const double* c3 = c2 + ld;
+    const double y0 = b[k] *= inv_diag[k];
+    const double y1 = b[k + 1] = (b[k + 1] - y0 * c0[k + 1]) * inv_diag[k + 1];
+    const double y2 = b[k + 2] = ((b[k + 2] - y0 * c0[k + 2]) - y1 * c1[k + 2]) * inv_diag[k + 2];
+    const double y3 = b[k + 3] =
+        (((b[k + 3] - y0 * c0[k + 3]) - y1 * c1[k + 3]) - y2 * c2[k + 3]) * inv_diag[k + 3];
+#pragma omp simd
+    for (std::size_t i = k + 4; i < n; ++i)
+      b[i] = (((b[i] - y0 * c0[i]) - y1 * c1[i]) - y2 * c2[i]) - y3 * c3[i];
+  }
+  for (; k < n; ++k) {
     b[k] *= inv_diag[k];
     axpy_sub(b[k], l + k * ld + k + 1, b + k + 1, n - k - 1);
   }
