@@ -245,6 +245,10 @@ class Bench:
         out2 = os.path.join(self.tmp, f"{name}_t2.tif")
         r = {"samples": n, "grid": f"{nx}x{ny}", "nodes": nodes, "neighbours": k}
         r["ours"] = ours_krige(self.exe, csv_path, out2, nx, ny, k, repeat=repeat)
+        # Start-up: reading the samples, indexing them, one node, writing.
+        tiny = os.path.join(self.tmp, f"{name}_1x1.tif")
+        r["startup_s"] = ours_krige(self.exe, csv_path, tiny, 1, 1, k, repeat=repeat)["wall_s"]
+        os.remove(tiny)
         if threads_curve:
             out1 = os.path.join(self.tmp, f"{name}_t1.tif")
             r["ours_1_thread"] = ours_krige(self.exe, csv_path, out1, nx, ny, k, threads=1)
@@ -369,6 +373,9 @@ class Bench:
     def point(r, key):
         return {key: r[key], "grid": r["grid"], "wall_s": round(r["ours"]["wall_s"], 3),
                 "us_per_node": round(r["ours"]["wall_s"] / r["nodes"] * 1e6, 3),
+                "startup_s": round(r["startup_s"], 3),
+                "us_per_node_after_startup":
+                    round((r["ours"]["wall_s"] - r["startup_s"]) / r["nodes"] * 1e6, 3),
                 "peak_mib": round(r["ours"]["peak_mib"], 1),
                 "numpy_us_per_node": round(r["numpy"]["per_node_us"], 1),
                 "ratio_numpy_over_ours": round(r["ratio_numpy_over_ours"], 1),
@@ -412,11 +419,50 @@ def main():
         "gdal": gdal.__version__, "numpy": np.__version__,
         "minutes": (time.time() - started) / 60,
         "date": time.strftime("%Y-%m-%d"),
+        "commit": subprocess.run(["git", "-C", os.path.dirname(os.path.abspath(__file__)), "rev-parse",
+                                  "--short", "HEAD"], capture_output=True, text=True).stdout.strip(),
     }
     with open(a.json, "w") as f:
         json.dump(bench.results, f, indent=1, default=float)
     print(render_table(bench.results))
+    if "scaling" in bench.results:
+        print(render_scaling(bench.results["scaling"]))
+    if "B1" in bench.results or "B1s" in bench.results:
+        print(render_threads(bench.results))
     return 0
+
+
+def render_scaling(curves):
+    """Markdown tables of the scaling curves."""
+    out = []
+    for key, title in (("nodes", "grid nodes"), ("neighbours", "neighbours (k)"),
+                       ("samples", "samples")):
+        pts = curves.get(key, [])
+        if not pts:
+            continue
+        out += ["", f"| {title} | grid | wall (s) | start-up (s) | us per node | "
+                    "us per node after start-up | peak RSS (MiB) | numpy us per node | "
+                    "numpy / ours | matches numpy |",
+                "|---|---|---|---|---|---|---|---|---|---|"]
+        for p in pts:
+            out.append(f"| {p[key]} | {p['grid']} | {p['wall_s']:.2f} | {p['startup_s']:.2f} | "
+                       f"{p['us_per_node']:.2f} | {p['us_per_node_after_startup']:.2f} | "
+                       f"{p['peak_mib']:.0f} | {p['numpy_us_per_node']:.1f} | "
+                       f"{p['ratio_numpy_over_ours']:.0f}x | "
+                       f"{'yes' if p['estimates_within_1e-8'] else 'NO'} |")
+    return "\n".join(out)
+
+
+def render_threads(res):
+    """Markdown table of the 1 -> 2 thread figures."""
+    out = ["", "| benchmark | 1 thread (s) | 2 threads (s) | speed-up | identical results |",
+           "|---|---|---|---|---|"]
+    for name in ("B1", "B1s", "B3"):
+        if name in res and "ours_1_thread" in res[name]:
+            r = res[name]
+            out.append(f"| {name} | {r['ours_1_thread']['wall_s']:.2f} | {r['ours']['wall_s']:.2f} | "
+                       f"{r['thread_scaling']:.2f}x | {'yes' if r['identical_1_and_2_threads'] else 'NO'} |")
+    return "\n".join(out)
 
 
 def render_table(res):
