@@ -28,6 +28,7 @@ fastest run is kept: the machine is shared and the minimum is the least
 disturbed figure.
 
 Usage: bench.py SILLSTONE [--quick] [--only B1,B1s,B3,B4,scaling] [--repeat N] [--json OUT]
+                [--other OTHER_SILLSTONE]
 (the figures go to OUT, by default benchmark-results.json beside SILLSTONE)
 """
 import argparse
@@ -218,8 +219,8 @@ def gdal_grid(samples_csv, out, nx, ny, k, radius):
 
 # --- benchmarks ---------------------------------------------------------------------------
 class Bench:
-    def __init__(self, exe, tmp, quick):
-        self.exe, self.tmp, self.quick = exe, tmp, quick
+    def __init__(self, exe, tmp, quick, other=None):
+        self.exe, self.tmp, self.quick, self.other = exe, tmp, quick, other
         self.results = {}
 
     def data(self, n, seed):
@@ -245,6 +246,11 @@ class Bench:
         out2 = os.path.join(self.tmp, f"{name}_t2.tif")
         r = {"samples": n, "grid": f"{nx}x{ny}", "nodes": nodes, "neighbours": k}
         r["ours"] = ours_krige(self.exe, csv_path, out2, nx, ny, k, repeat=repeat)
+        if self.other and threads_curve:  # another build of sillstone, e.g. an older commit
+            other = os.path.join(self.tmp, f"{name}_other.tif")
+            r["other_build"] = ours_krige(self.other, csv_path, other, nx, ny, k, repeat=repeat)
+            r["ratio_other_over_ours"] = r["other_build"]["wall_s"] / r["ours"]["wall_s"]
+            os.remove(other)
         # Start-up: reading the samples, indexing them, one node, writing.
         tiny = os.path.join(self.tmp, f"{name}_1x1.tif")
         r["startup_s"] = ours_krige(self.exe, csv_path, tiny, 1, 1, k, repeat=repeat)["wall_s"]
@@ -395,6 +401,8 @@ def main():
     ap.add_argument("--quick", action="store_true", help="smaller sizes, for a smoke run")
     ap.add_argument("--only", default="B1,B1s,B3,B4,scaling")
     ap.add_argument("--json", help="where to write the figures (default: beside SILLSTONE)")
+    ap.add_argument("--other", help="another sillstone binary (e.g. an older commit's build) "
+                                    "timed beside ours on B1 and B1s")
     ap.add_argument("--repeat", type=int, default=3,
                     help="runs of each timed command; the fastest is kept (default 3)")
     a = ap.parse_args()
@@ -403,7 +411,8 @@ def main():
     global REPEAT
     REPEAT = max(1, a.repeat)
     tmp = tempfile.mkdtemp(prefix="sillstone-bench-")
-    bench = Bench(os.path.abspath(a.sillstone), tmp, a.quick)
+    bench = Bench(os.path.abspath(a.sillstone), tmp, a.quick,
+                  os.path.abspath(a.other) if a.other else None)
     started = time.time()
     try:
         for name in a.only.split(","):
@@ -429,6 +438,8 @@ def main():
         print(render_scaling(bench.results["scaling"]))
     if "B1" in bench.results or "B1s" in bench.results:
         print(render_threads(bench.results))
+    if a.other:
+        print(render_other(bench.results))
     return 0
 
 
@@ -450,6 +461,17 @@ def render_scaling(curves):
                        f"{p['peak_mib']:.0f} | {p['numpy_us_per_node']:.1f} | "
                        f"{p['ratio_numpy_over_ours']:.0f}x | "
                        f"{'yes' if p['estimates_within_1e-8'] else 'NO'} |")
+    return "\n".join(out)
+
+
+def render_other(res):
+    """Markdown table of another build against this one (--other)."""
+    out = ["", "| benchmark | other build (s) | this build (s) | other / this |", "|---|---|---|---|"]
+    for name in ("B1", "B1s"):
+        if name in res and "other_build" in res[name]:
+            r = res[name]
+            out.append(f"| {name} | {r['other_build']['wall_s']:.2f} | {r['ours']['wall_s']:.2f} | "
+                       f"{r['ratio_other_over_ours']:.1f}x |")
     return "\n".join(out)
 
 
