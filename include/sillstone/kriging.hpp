@@ -85,6 +85,10 @@ struct NodeOutput {
   double efficiency = std::numeric_limits<double>::quiet_NaN();  ///< kriging efficiency (C00 - sigma^2) / C00
 };
 
+namespace detail {
+class CovarianceKernel;
+}
+
 class KrigingEngine {
  public:
   /// Prepares kriging of value column `column` of `samples`. Throws InputError
@@ -104,10 +108,31 @@ class KrigingEngine {
   /// Its members are internal to the engine.
   struct Workspace {
     NeighbourSearch::Workspace search;
-    std::vector<std::uint32_t> nb, factored_nb;
+    std::vector<std::uint32_t> nb, factored_nb, factored_sorted, removed, added;
     bool have_factor = false;
+    /// When true, a factorisation is UPDATED when a few samples leave or
+    /// join the neighbour set (a rank-one update per sample out, one more
+    /// row per sample in) instead of being recomputed (at most
+    /// update_budget times, set from the system's conditioning). Results then depend,
+    /// by rounding, on the targets estimated since the last restart():
+    /// callers that need results independent of threads restart at fixed
+    /// points (grid kriging: every chunk of nodes). Off: every result is a
+    /// function of its neighbour set alone.
+    bool incremental = false;
+    int updates = 0;        // since the last full factorisation
+    int update_budget = 0;  // updates allowed before the next (from the conditioning)
+    /// Forgets the factorisation: the next target starts afresh.
+    void restart() { have_factor = false; }
     NodeEstimate::Status factor_status = NodeEstimate::Status::ok;
-    std::vector<double> L, F, B, S, k, a, f0, r, lambda, drift;
+    // The factorisation of the system of `factored_nb`: K = LL' (L column-major,
+    // leading dimension ld, with the inverses of its diagonal), w = L^-1 z,
+    // G = L^-1 F (column c at c * ld), S = G'G (Cholesky factor), G'w.
+    std::size_t ld = 0;
+    std::vector<double> L, inv_diag, w, G, S, Gw;
+    // Per target: k, y = L^-1 k, G'y, f0, r = G'y - f0 then mu, the weights.
+    std::vector<double> k, y, Gy, f0, r, lambda, drift;
+    std::vector<double> lag_x, lag_y, lag_z, block_cov;  // lags for batched covariances
+    std::vector<double> column, extra;                   // scratch of the updates
   };
   std::unique_ptr<Workspace> make_workspace() const;
 
@@ -151,6 +176,7 @@ class KrigingEngine {
   double mean_ = std::numeric_limits<double>::quiet_NaN();
   int drift_terms_ = 0;            // p: columns of F
   std::unique_ptr<NeighbourSearch> search_;
+  std::unique_ptr<detail::CovarianceKernel> kernel_;  // batched covariances (models with a sill)
   std::unique_ptr<External> external_raster_;
   std::vector<std::string> notes_;
 
@@ -160,7 +186,13 @@ class KrigingEngine {
   NodeEstimate estimate_intrinsic(const Point& centred_target, Workspace& ws, double external,
                                   std::vector<std::pair<std::uint32_t, double>>* weights,
                                   NodeEstimate& e) const;
-  void complete(const Workspace& ws, double mu_f0,
+  void factorise(Workspace& ws) const;
+  bool update_factor(Workspace& ws) const;
+  int update_budget(const Workspace& ws) const;
+  void remove_from_factor(Workspace& ws, std::size_t j) const;
+  bool append_to_factor(Workspace& ws, std::uint32_t sample) const;
+  void finish_factor(Workspace& ws) const;
+  void complete(const Workspace& ws, double est, double lk, double mu_f0,
                 std::vector<std::pair<std::uint32_t, double>>* weights, NodeEstimate& e) const;
 };
 

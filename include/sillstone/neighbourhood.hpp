@@ -51,17 +51,45 @@ class NeighbourSearch {
   NeighbourSearch(const NeighbourSearch&) = delete;
   NeighbourSearch& operator=(const NeighbourSearch&) = delete;
 
-  /// Scratch space reused between calls (no allocation per node once warm).
+  /// Scratch space reused between calls (no allocation per node once warm),
+  /// and a cache of candidates that serves runs of nearby targets (a grid
+  /// row): the samples closest to a recent target, in ascending index
+  /// order, with a `reach` such that every other sample is at least that far
+  /// from the cache's centre. The cache never changes an answer, only how
+  /// fast it is found.
   struct Workspace {
     std::vector<std::uint32_t> index;
     std::vector<double> distance;
+    std::vector<std::uint32_t> candidates;
+    std::vector<double> cx, cy, cz, d2, keys;
+    std::vector<std::pair<std::uint32_t, double>> pairs;  // the tree's radius search
+    // The last choice among the candidates, 1 or 0, as doubles so that the
+    // max/min pass over the candidates vectorises (bytes need widening).
+    std::vector<double> chosen;
+    std::size_t chosen_count = 0;
+    Point centre{0, 0, 0};
+    double reach = -1;  // < 0: no cache
+    Point last{0, 0, 0};
+    double last_kth = 0;  // distance of the last target's k-th neighbour
+    // The neighbours of `certified` and the gap between its k-th and
+    // (k+1)-th nearest sample (<= 0: none): they serve nearby targets.
+    Point certified{0, 0, 0};
+    double gap = -1;
+    std::vector<std::uint32_t> certified_set;
   };
 
   /// Fills `out` with the indices of the neighbours of `target`, closest
   /// first (in the search metric), leaving out sample `exclude` (>= 0, for
   /// leave-one-out). Returns out.size(); the caller checks min_points.
+  /// Samples at the same distance are taken in ascending index order
+  /// (without sectors; with sectors the k-d tree's order decides).
   std::size_t find(const Point& target, std::vector<std::uint32_t>& out, Workspace& ws,
                    std::int64_t exclude = -1) const;
+
+  /// The same neighbours as find(), in ascending index order: what kriging
+  /// needs (docs/kriging.md), without the cost of ordering by distance.
+  std::size_t find_set(const Point& target, std::vector<std::uint32_t>& out, Workspace& ws,
+                       std::int64_t exclude = -1) const;
 
   const NeighbourhoodOptions& options() const { return options_; }
 
@@ -74,6 +102,11 @@ class NeighbourSearch {
 
   Point to_search_space(const Point& p) const;
   int sector_of(const Point& from, const Point& to) const;
+  std::size_t find_sectored(const Point& q, std::vector<std::uint32_t>& out, Workspace& ws,
+                            std::int64_t exclude) const;
+  std::size_t find_nearest(const Point& q, std::vector<std::uint32_t>& out, Workspace& ws,
+                           std::int64_t exclude) const;
+  void fill_cache(const Point& centre, std::size_t count, double radius, Workspace& ws) const;
 };
 
 }  // namespace sillstone

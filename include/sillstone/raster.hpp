@@ -45,6 +45,12 @@ class RasterWriter {
   /// from `data` (row-major, rows * nx values).
   void write_rows(int band, std::int64_t first_row, std::int64_t rows, const double* data);
 
+  /// Writes out every block held in GDAL's cache. Call it when the rows
+  /// written so far end on a tile boundary (256 rows for GeoTIFFs): the
+  /// cache then never holds more than one band of rows per band, whatever
+  /// GDAL_CACHEMAX allows (by default 5% of the memory).
+  void flush();
+
   /// Flushes and closes the file; throws if anything failed.
   void close();
 

@@ -82,16 +82,55 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
     for (std::size_t k = 0; k < n; ++k) fold[order[k]] = static_cast<int>(k % static_cast<std::size_t>(options.folds));
   }
 
-  auto run = [&](const KrigingEngine& engine, const std::vector<std::size_t>& targets,
-                 const std::vector<std::int64_t>& exclude) {
+  // Targets are visited in a spatial order (Z-order of their cell in a
+  // 2^16 grid over the bounding box), so that consecutive targets share
+  // most neighbours: the neighbour cache and the updated factorisation
+  // (Workspace::incremental) then serve them, as along a grid row. Chunks of
+  // that order start afresh, so results do not depend on the threads.
+  auto spatial_order = [&](std::vector<std::size_t>& order) {
+    double lo[3] = {0, 0, 0}, hi[3] = {0, 0, 0};
+    for (std::size_t i = 0; i < order.size(); ++i) {
+      const Point& p = all.points[order[i]];
+      const double c[3] = {p.x, p.y, p.z};
+      for (int d = 0; d < 3; ++d) {
+        lo[d] = i == 0 ? c[d] : std::min(lo[d], c[d]);
+        hi[d] = i == 0 ? c[d] : std::max(hi[d], c[d]);
+      }
+    }
+    auto key = [&](std::size_t i) {
+      const Point& p = all.points[i];
+      const double c[3] = {p.x, p.y, p.z};
+      std::uint64_t cell[3];
+      for (int d = 0; d < 3; ++d)
+        cell[d] = hi[d] > lo[d] ? static_cast<std::uint64_t>((c[d] - lo[d]) / (hi[d] - lo[d]) * 65535.0) : 0;
+      std::uint64_t k = 0;
+      for (int b = 15; b >= 0; --b)
+        for (int d = 0; d < 3; ++d) k = (k << 1) | ((cell[d] >> b) & 1);
+      return k;
+    };
+    std::vector<std::pair<std::uint64_t, std::size_t>> keyed;
+    for (std::size_t i : order) keyed.push_back({key(i), i});
+    std::sort(keyed.begin(), keyed.end());
+    for (std::size_t i = 0; i < order.size(); ++i) order[i] = keyed[i].second;
+  };
+
+  auto run = [&](const KrigingEngine& engine, std::vector<std::size_t> targets, bool leave_one_out) {
+    spatial_order(targets);
     std::vector<std::unique_ptr<KrigingEngine::Workspace>> ws;
     for (int t = 0; t < threads; ++t) ws.push_back(engine.make_workspace());
     const bool external = !kriging.external_drift.empty();
-#pragma omp parallel for num_threads(threads) schedule(dynamic, 16)
-    for (std::size_t k = 0; k < targets.size(); ++k) {
-      const Point& p = all.points[targets[k]];
-      estimates[targets[k]] = engine.estimate(p, *ws[static_cast<std::size_t>(omp_get_thread_num())],
-                                              exclude[k], external ? engine.external_at(p) : 0.0);
+    constexpr std::size_t kChunk = 64;
+    const std::size_t chunks = (targets.size() + kChunk - 1) / kChunk;
+#pragma omp parallel for num_threads(threads) schedule(dynamic, 1)
+    for (std::size_t c = 0; c < chunks; ++c) {
+      KrigingEngine::Workspace& w = *ws[static_cast<std::size_t>(omp_get_thread_num())];
+      w.incremental = true;
+      w.restart();
+      for (std::size_t k = c * kChunk; k < std::min(targets.size(), (c + 1) * kChunk); ++k) {
+        const Point& p = all.points[targets[k]];
+        const std::int64_t exclude = leave_one_out ? static_cast<std::int64_t>(targets[k]) : -1;
+        estimates[targets[k]] = engine.estimate(p, w, exclude, external ? engine.external_at(p) : 0.0);
+      }
     }
   };
 
@@ -100,8 +139,7 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
     const KrigingEngine engine(all, model, kriging, neighbourhood);
     std::vector<std::size_t> targets(n);
     std::iota(targets.begin(), targets.end(), 0);
-    std::vector<std::int64_t> exclude(targets.begin(), targets.end());
-    run(engine, targets, exclude);
+    run(engine, targets, true);
     for (std::size_t i = 0; i < n; ++i) kriged[i] = engine.value(i);
   } else {
     for (int f = 0; f < options.folds; ++f) {
@@ -109,7 +147,7 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
       for (std::size_t i = 0; i < n; ++i) (fold[i] == f ? targets : train).push_back(i);
       const SampleSet training = with_values(all, 0, train);
       const KrigingEngine engine(training, model, kriging, neighbourhood);
-      run(engine, targets, std::vector<std::int64_t>(targets.size(), -1));
+      run(engine, targets, false);
     }
     for (std::size_t i = 0; i < n; ++i)
       kriged[i] = kriging.transform == Transform::log ? std::log(all.values[0][i]) : all.values[0][i];

@@ -11,6 +11,8 @@
 #include <cstdio>
 #include <filesystem>
 #include <fstream>
+#include <functional>
+#include <future>
 #include <memory>
 #include <sstream>
 
@@ -136,21 +138,31 @@ void krige_nodes(const KrigingEngine& engine, std::int64_t count, const NodeAt& 
                  std::vector<NodeEstimate>& out, int threads) {
   out.resize(static_cast<std::size_t>(count));
   const bool external = !engine.options().external_drift.empty();
+  // Chunks of consecutive nodes (along a row) share neighbour sets, and the
+  // workspace updates the factorisation from node to node within a chunk
+  // (KrigingEngine::Workspace::incremental). Each chunk starts afresh, so a
+  // node's result depends only on the fixed chunk it is in, never on which
+  // thread ran the chunks before: results are identical for any thread
+  // count.
+  constexpr std::int64_t kChunk = 256;
+  const std::int64_t chunks = (count + kChunk - 1) / kChunk;
 #pragma omp parallel num_threads(threads)
   {
     KrigingEngine::Workspace& ws = *workspaces[static_cast<std::size_t>(omp_get_thread_num())];
-    // Chunks of consecutive nodes keep neighbour sets (and factorisations)
-    // shared along a row; the result does not depend on the schedule.
-#pragma omp for schedule(dynamic, 64)
-    for (std::int64_t i = 0; i < count; ++i) {
-      NodeEstimate& e = out[static_cast<std::size_t>(i)];
-      if (inside && !(*inside)[static_cast<std::size_t>(i)]) {
-        e = NodeEstimate{};
-        e.neighbours = -1;  // marks "masked"
-        continue;
+    ws.incremental = true;
+#pragma omp for schedule(dynamic, 1)
+    for (std::int64_t c = 0; c < chunks; ++c) {
+      ws.restart();
+      for (std::int64_t i = c * kChunk; i < std::min(count, (c + 1) * kChunk); ++i) {
+        NodeEstimate& e = out[static_cast<std::size_t>(i)];
+        if (inside && !(*inside)[static_cast<std::size_t>(i)]) {
+          e = NodeEstimate{};
+          e.neighbours = -1;  // marks "masked"
+          continue;
+        }
+        const Point p = node(i);
+        e = engine.estimate(p, ws, -1, external ? engine.external_at(p) : 0.0);
       }
-      const Point p = node(i);
-      e = engine.estimate(p, ws, -1, external ? engine.external_at(p) : 0.0);
     }
   }
 }
@@ -210,30 +222,54 @@ KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
   // 256 rows per block (the GeoTIFF tile height), fewer for very wide grids.
   const std::int64_t block_rows =
       std::max<std::int64_t>(1, std::min<std::int64_t>(256, (1 << 22) / std::max<std::int64_t>(grid.nx, 1)));
-  std::vector<NodeEstimate> block;
+  // Two sets of buffers: while the threads krige one block, the previous one
+  // is back-transformed, compressed and written on another thread (GDAL
+  // compresses on the calling thread), so writing does not leave the
+  // kriging threads idle (with --threads 1 it is written in line). Memory stays bounded: two blocks, and GDAL's
+  // cache flushed at every tile row.
+  struct Buffers {
+    std::vector<NodeEstimate> block;
+    std::vector<NodeOutput> values;
+    std::vector<double> band;
+  } buffers[2];
   std::vector<unsigned char> inside;
-  std::vector<double> band(static_cast<std::size_t>(grid.nx * block_rows));
-  for (std::int64_t row0 = 0; row0 < grid.ny; row0 += block_rows) {
-    const std::int64_t rows = std::min(block_rows, grid.ny - row0);
-    if (mask) mask->rows(grid, row0, rows, inside);
-    krige_nodes(engine, grid.nx * rows,
-                [&](std::int64_t i) { return Point{grid.x(i % grid.nx), grid.y(row0 + i / grid.nx), 0}; },
-                mask ? &inside : nullptr, workspaces, block, summary.threads);
-    tally(block, summary);
-    std::vector<NodeOutput> values(block.size());
-    for (std::size_t i = 0; i < block.size(); ++i) values[i] = engine.finish(block[i]);
-    auto write = [&](int b, double NodeOutput::*field) {
-      for (std::size_t i = 0; i < values.size(); ++i) {
-        const double v = values[i].*field;
-        band[i] = std::isfinite(v) ? v : target.nodata;
+  auto write_block = [&](Buffers& b, std::int64_t row0, std::int64_t rows) {
+    tally(b.block, summary);
+    b.values.resize(b.block.size());
+    for (std::size_t i = 0; i < b.block.size(); ++i) b.values[i] = engine.finish(b.block[i]);
+    b.band.resize(b.block.size());
+    auto write = [&](int index, double NodeOutput::*field) {
+      for (std::size_t i = 0; i < b.values.size(); ++i) {
+        const double v = b.values[i].*field;
+        b.band[i] = std::isfinite(v) ? v : target.nodata;
       }
-      writer.write_rows(b, row0, rows, band.data());
+      writer.write_rows(index, row0, rows, b.band.data());
     };
     write(0, &NodeOutput::estimate);
     write(1, &NodeOutput::variance);
     if (with_probability) write(2, &NodeOutput::probability);
-    if (progress) progress(static_cast<double>(row0 + rows) / static_cast<double>(grid.ny));
+    if ((row0 + rows) % 256 == 0 || row0 + rows == grid.ny) writer.flush();
+  };
+  std::future<void> pending;
+  int current = 0;
+  for (std::int64_t row0 = 0; row0 < grid.ny; row0 += block_rows) {
+    const std::int64_t rows = std::min(block_rows, grid.ny - row0);
+    if (mask) mask->rows(grid, row0, rows, inside);
+    Buffers& b = buffers[current];
+    krige_nodes(engine, grid.nx * rows,
+                [&](std::int64_t i) { return Point{grid.x(i % grid.nx), grid.y(row0 + i / grid.nx), 0}; },
+                mask ? &inside : nullptr, workspaces, b.block, summary.threads);
+    if (pending.valid()) pending.get();  // the previous block is written (or throws)
+    if (progress && row0 > 0) progress(static_cast<double>(row0) / static_cast<double>(grid.ny));
+    // With one thread asked for, one thread it is: write in line.
+    if (summary.threads > 1)
+      pending = std::async(std::launch::async, write_block, std::ref(b), row0, rows);
+    else
+      write_block(b, row0, rows);
+    current = 1 - current;
   }
+  if (pending.valid()) pending.get();
+  if (progress) progress(1.0);
   writer.close();
   out.commit();
   summary.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();

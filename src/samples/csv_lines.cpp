@@ -1,6 +1,7 @@
 #include "samples/csv_lines.hpp"
 
 #include <fstream>
+#include <vector>
 
 namespace sillstone::detail {
 
@@ -20,18 +21,25 @@ std::vector<std::int64_t> csv_record_lines(const std::string& path) {
     }
     record_has_text = false;
   };
-  char c;
-  while (in.get(c)) {
-    if (c == '"') in_quotes = !in_quotes;
-    if (c == '\n') {
-      if (!in_quotes) {
-        end_record();
-        record_start = line + 1;
+  // Read in blocks: istream::get() per character cost about 80
+  // instructions a byte (a fifth of loading 50,000 samples).
+  std::vector<char> buffer(1 << 20);
+  while (in) {
+    in.read(buffer.data(), static_cast<std::streamsize>(buffer.size()));
+    const std::streamsize got = in.gcount();
+    for (std::streamsize i = 0; i < got; ++i) {
+      const char c = buffer[static_cast<std::size_t>(i)];
+      if (c == '"') in_quotes = !in_quotes;
+      if (c == '\n') {
+        if (!in_quotes) {
+          end_record();
+          record_start = line + 1;
+        }
+        ++line;
+        continue;
       }
-      ++line;
-      continue;
+      if (c != '\r') record_has_text = true;
     }
-    if (c != '\r') record_has_text = true;
   }
   end_record();
   return starts;

@@ -108,3 +108,42 @@ TEST_CASE("neighbourhood options are checked", "[neighbourhood]") {
   CHECK_FALSE(o.is_valid(3, &why));
   CHECK_THAT(why, Catch::Contains("--min-points"));
 }
+
+// Runs of nearby targets (grid rows) are served from a cache of candidates;
+// the answers must not depend on it: every target against brute force,
+// including samples on a regular lattice, where many are exactly as far
+// (ties go to the lower index, as in brute()).
+TEST_CASE("neighbours along grid rows equal brute force, ties by index", "[neighbourhood]") {
+  std::vector<std::vector<Point>> sets;
+  sets.push_back(test::make_synthetic(2000, 77, 1000.0).points);
+  std::vector<Point> lattice;
+  for (int i = 0; i < 30; ++i)
+    for (int j = 0; j < 30; ++j) lattice.push_back({i * 10.0, j * 10.0, 0});
+  sets.push_back(lattice);
+  for (const auto& pts : sets) {
+    for (const double radius : {0.0, 25.0}) {
+      NeighbourhoodOptions o;
+      o.max_points = 12;
+      o.radius = radius;
+      const Eigen::Matrix3d identity = Eigen::Matrix3d::Identity();
+      NeighbourSearch search(pts, 2, o);
+      NeighbourSearch::Workspace ws;
+      std::vector<std::uint32_t> got;
+      for (int row = 0; row < 12; ++row)
+        for (int col = 0; col < 60; ++col) {
+          const Point q{-20 + col * 5.0, 300 - row * 25.0, 0};  // lattice: many ties
+          std::vector<std::uint32_t> expected = brute(pts, q, o, identity, -1);
+          search.find(q, got, ws);
+          INFO("row " << row << " col " << col << " radius " << radius);
+          CHECK(got == expected);
+          std::sort(expected.begin(), expected.end());
+          search.find_set(q, got, ws, col % 7 == 0 ? 3 : -1);
+          if (col % 7 == 0) {
+            expected = brute(pts, q, o, identity, 3);
+            std::sort(expected.begin(), expected.end());
+          }
+          CHECK(got == expected);
+        }
+    }
+  }
+}
