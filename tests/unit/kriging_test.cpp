@@ -5,9 +5,12 @@
 #include <Eigen/Dense>
 
 #include <cmath>
+#include <fstream>
 #include <random>
+#include <sstream>
 
 #include "kriging/dense.hpp"  // the condition estimate (internal)
+#include "sillstone/crossval.hpp"
 #include "sillstone/error.hpp"
 #include "sillstone/kriging.hpp"
 #include "test_support.hpp"
@@ -445,4 +448,63 @@ TEST_CASE("output size: estimates and refusals before any work", "[kriging]") {
   g.nx = 1'000'000;
   g.ny = 1'000'000;  // 1e12 nodes: terabytes
   CHECK_THROWS_WITH(check_output_size(g, 2, false, dir.path("out.tif")), Catch::Contains("would need about"));
+}
+
+TEST_CASE("undefined figures are empty and counted, never silent", "[kriging]") {
+  const std::vector<Point> pts = {{0, 0, 0}, {10, 5, 0}, {3, 12, 0}, {20, 2, 0}, {14, 18, 0}, {7, 25, 0}};
+  auto has = [](const std::vector<std::string>& lines, const std::string& text) {
+    for (const auto& w : lines)
+      if (w.find(text) != std::string::npos) return true;
+    return false;
+  };
+  SECTION("cross-validation of constant values: the correlation is undefined") {
+    const CrossValidationResult cv = cross_validate(make_set(pts, {5, 5, 5, 5, 5, 5}),
+                                                    parse_model_spec("1 spherical(range=30)"), {}, global(), {});
+    CHECK(cv.summary.estimated == 6);
+    CHECK(std::isnan(cv.summary.correlation));
+    CHECK(has(cv.summary.counts.warnings, "correlation of observed and estimated values is undefined"));
+    CHECK(has(cv.summary.counts.warnings, "all 6 values are equal"));
+    CHECK_THAT(crossval_summary_text(cv), Catch::Contains("correlation observed-estimated                   -"));
+    CHECK_THAT(crossval_summary_json(cv), Catch::Contains("\"correlation\": null"));
+  }
+  SECTION("a block table with a power model: kriging_efficiency is empty on every row, counted") {
+    test::ScratchDir dir;
+    const KrigingEngine engine(make_set(pts, {1, 2, 3, 2.5, 1.5, 3.5}), parse_model_spec("1 power(exponent=1.5)"),
+                               {}, global());
+    GridSpec g;
+    g.xmin = 0;
+    g.ymax = 30;
+    g.dx = g.dy = 10;
+    g.nx = 2;
+    g.ny = 3;
+    TableTarget t;
+    t.path = dir.path("blocks.csv");
+    const KrigingSummary s = krige_table(engine, g, t);
+    CHECK(s.estimated == 6);
+    CHECK(has(s.warnings, "6 estimated row(s) with an empty kriging_efficiency: the model has no sill"));
+    std::ifstream f(t.path);
+    std::string header, row;
+    std::getline(f, header);
+    CHECK(header == "x,y,z,estimate,variance,neighbours,slope_of_regression,kriging_efficiency");
+    int rows = 0;
+    while (std::getline(f, row)) {
+      ++rows;
+      CHECK(row.back() == ',');  // the last cell, kriging_efficiency, is empty
+    }
+    CHECK(rows == 6);
+  }
+  SECTION("crossval counts unestimated samples by cause, in samples not nodes") {
+    const CrossValidationResult cv = cross_validate(
+        make_set(pts, {1, 2, 3, 2.5, 1.5, 3.5}), parse_model_spec("1 spherical(range=30)"), {},
+        [] {
+          NeighbourhoodOptions n;
+          n.radius = 1;  // no neighbour within reach
+          n.min_points = 1;
+          return n;
+        }(),
+        {});
+    CHECK(cv.summary.estimated == 0);
+    CHECK(has(cv.summary.counts.warnings, "6 sample(s) with fewer samples than --min-points in the search: left unestimated"));
+    CHECK(std::isnan(cv.summary.rmse));
+  }
 }
