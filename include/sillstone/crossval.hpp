@@ -39,9 +39,10 @@ struct CrossValidationSummary {
   double mean_error = 0;                  ///< ME, ideally 0
   double mean_absolute_error = 0;         ///< MAE
   double rmse = 0;                        ///< root mean squared error
-  double mean_standardised_error = 0;     ///< MSE, ideally 0
-  double mean_squared_standardised_error = 0;  ///< MSSE, ideally 1
-  double correlation = 0;                 ///< Pearson r of observed and estimated
+  double mean_standardised_error = 0;     ///< MSE, ideally 0 (over samples with variance > 0)
+  double mean_squared_standardised_error = 0;  ///< MSSE, ideally 1 (likewise)
+  double correlation = 0;                 ///< Pearson r of observed and estimated (NaN: undefined)
+  std::size_t zero_variance = 0;          ///< estimated samples with variance 0: no standardised error
   int folds = 0;                          ///< 0: leave-one-out
   KrigingSummary counts;
 };

@@ -62,6 +62,7 @@ struct NodeEstimate {
     ok,
     too_few_neighbours,  ///< fewer than --min-points within the search
     singular,            ///< the covariance matrix is singular or badly conditioned
+                         ///< (estimated reciprocal condition number below 1e-12)
     drift_unresolved,    ///< the neighbours cannot fix the drift (e.g. collinear for a linear drift)
     outside_drift,       ///< the external drift raster has no value at the target
   };
@@ -133,6 +134,7 @@ class KrigingEngine {
     std::vector<double> k, y, Gy, f0, r, lambda, drift;
     std::vector<double> lag_x, lag_y, lag_z, block_cov;  // lags for batched covariances
     std::vector<double> column, extra;                   // scratch of the updates
+    std::vector<double> cond_l, cond_x, cond_z;           // condition estimate scratch
   };
   std::unique_ptr<Workspace> make_workspace() const;
 
@@ -157,6 +159,11 @@ class KrigingEngine {
   double mean() const { return mean_; }
   /// Notes for the user: the simple-kriging mean used, the transform, ...
   const std::vector<std::string>& notes() const { return notes_; }
+  /// Warnings about the data and the model found when the engine was built:
+  /// very few samples, samples on one line (or plane), all values equal,
+  /// near-duplicate samples, a gaussian structure without nugget on samples
+  /// dense for its range. Each is one sentence without "warning:".
+  const std::vector<std::string>& warnings() const { return warnings_; }
   /// The external drift raster's value at an absolute point (NaN outside).
   double external_at(const Point& p) const;
 
@@ -179,7 +186,9 @@ class KrigingEngine {
   std::unique_ptr<detail::CovarianceKernel> kernel_;  // batched covariances (models with a sill)
   std::unique_ptr<External> external_raster_;
   std::vector<std::string> notes_;
+  std::vector<std::string> warnings_;
 
+  void diagnose(const SampleSet& samples, const std::vector<std::size_t>& used);
   double cov(double dx, double dy, double dz) const;
   void drift_row(const Point& centred, double external, double* f) const;
   void right_hand_side(const Point& centred_target, Workspace& ws, double external) const;
@@ -205,6 +214,13 @@ struct KrigingSummary {
   std::int64_t singular = 0;
   std::int64_t drift_unresolved = 0;
   std::int64_t outside_drift = 0;
+  /// Estimated targets with an output value that is not a finite number (e.g.
+  /// a back-transform that overflows), written as nodata or an empty cell.
+  std::int64_t non_finite = 0;
+  /// Table outputs: per optional column, the estimated rows left empty
+  /// because the figure is undefined there (e.g. kriging_efficiency of a
+  /// power model, slope_of_regression where every weight is 0).
+  std::vector<std::pair<std::string, std::int64_t>> empty_columns;
   double seconds = 0;
   int threads = 1;
   std::vector<std::string> warnings;
@@ -248,11 +264,37 @@ struct TableTarget {
 KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
                            const TableTarget& target, const Progress& progress = {});
 
+/// Refuses (InputError) an --external-drift raster that kriging `samples`
+/// would refuse: unreadable, rotated, in another CRS, too large. For checks
+/// before long work; KrigingEngine makes the same checks.
+void check_external_drift(const std::string& path, const SampleSet& samples);
+
+/// Refuses (InputError) a --mask that krige_raster would refuse for `grid`:
+/// unreadable, not polygons, in a CRS other than the grid's.
+void check_mask(const std::string& path, const GridSpec& grid);
+
+/// What writing a grid would take, estimated before any work.
+struct OutputSize {
+  double disk = 0;    ///< bytes of the output (rasters: uncompressed)
+  double memory = 0;  ///< bytes held while kriging (rasters: one block of rows; tables: one layer)
+};
+/// The estimate for `grid` with `values_per_node` values per node (raster
+/// bands, or table columns after x, y, z) written as a raster or a table.
+OutputSize output_size(const GridSpec& grid, std::size_t values_per_node, bool table);
+
+/// Refuses (InputError "grid", naming `path` and the estimate) a grid whose
+/// output would need more disk than is free in the output's folder or more
+/// memory than the machine has, or a raster wider or taller than GDAL allows.
+/// Call it before any long work.
+void check_output_size(const GridSpec& grid, std::size_t values_per_node, bool table,
+                       const std::string& path);
+
 /// Name of the probability band/column for a threshold, e.g. "probability_above_450".
 std::string probability_name(double threshold);
 
 /// One line per count that is not zero, for the user (nodes masked, left
-/// unestimated and why).
-std::vector<std::string> describe(const KrigingSummary& summary);
+/// unestimated and why). `target` names what was kriged: "node" (grids,
+/// left as nodata) or "sample" (cross-validation, left unestimated).
+std::vector<std::string> describe(const KrigingSummary& summary, const std::string& target = "node");
 
 }  // namespace sillstone

@@ -99,6 +99,11 @@ struct SampleSet {
 /// to repair and records it in `summary`.
 SampleSet load_samples(const SampleOptions& options);
 
+/// Refuses (InputError from `component`, naming the file and the column) a
+/// value column whose values are all equal: with zero variance there is no
+/// spatial variation to fit a model to. Missing values are ignored.
+void require_variation(const SampleSet& samples, std::size_t column, const std::string& component);
+
 /// How a single cell of a value column was read.
 struct ParsedValue {
   enum class Kind { number, missing, below_detection, invalid } kind = Kind::invalid;

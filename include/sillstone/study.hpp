@@ -121,6 +121,11 @@ FittedModel fit_for_study(const ModelChoice& choice, const EmpiricalVariogram& v
 /// file, the line and the key of any fault.
 Study read_study(const std::string& path);
 
+/// Reads and checks a study from its text, as read_study does for a file;
+/// `path` names it in messages and is the base of its relative paths. Reads
+/// no file (the samples and other inputs are opened by run_study).
+Study parse_study(const std::string& text, const std::string& path);
+
 /// Every setting after defaults were applied, as a JSON object (for run.json).
 std::string study_settings_json(const Study& study);
 

@@ -141,6 +141,7 @@ VerbRunner add_fit(CLI::App& app) {
                                     " is not a variogram table, so it is read as samples: give "
                                     "--value");
       const SampleSet samples = load_samples(resolve(a.samples));
+      require_variation(samples, 0, "fit");
       v = variogram_of(samples, vo, a.output.quiet, &notes, &warnings);
     }
     if (v.options.transform == Transform::log && v.options.log_offset != 0)

@@ -105,24 +105,19 @@ VerbRunner add_krige(CLI::App& app) {
     const GridSpec grid = make_grid(a->grid, samples.dimension, extent, samples.crs_wkt);
     for (const auto& n : grid.notes) notes.push_back(n);
     const bool table = samples.dimension == 3 || is_table(a->output);
-    const std::size_t bands = 2 + (std::isnan(options.threshold) ? 0 : 1);
-    const double bytes = table ? static_cast<double>(grid.nodes()) * 160.0 : raster_bytes(grid, bands);
-    std::error_code ec;
-    const auto folder = std::filesystem::path(a->output).has_parent_path()
-                            ? std::filesystem::path(a->output).parent_path()
-                            : std::filesystem::path(".");
-    const auto space = std::filesystem::space(folder, ec);
-    if (!ec && bytes > static_cast<double>(space.available))
-      throw InputError("krige", "the output would need about " + std::to_string(static_cast<long long>(bytes / 1e6)) +
-                                    " MB uncompressed (" + std::to_string(grid.nodes()) +
-                                    " nodes), more than the " +
-                                    std::to_string(static_cast<long long>(space.available / 1000000)) +
-                                    " MB free in " + folder.string() +
-                                    "; use a larger --cell or a smaller --extent");
+    const std::size_t extra = std::isnan(options.threshold) ? 0 : 1;
+    check_output_size(grid, table ? 5 + extra : 2 + extra, table, a->output);
+    if (!a->mask.empty()) {
+      if (table)
+        throw InputError("krige", "--mask applies to rasters; a block table is limited with "
+                                  "--blocks (a list of the blocks to estimate)");
+      check_mask(a->mask, grid);
+    }
 
     const KrigingEngine engine(samples, model.model, options, a->neighbourhood);
     // Warnings only once every check has passed: a refused run prints one line.
     print_warnings(samples.summary.warnings);
+    print_warnings(engine.warnings());
     for (const auto& n : engine.notes()) notes.push_back(n);
     print_notes(notes, a->out.quiet);
 

@@ -1,4 +1,6 @@
 // `sillstone run`: a whole study from a study file into a run folder.
+#include <unistd.h>  // isatty: stage lines only on a terminal
+
 #include <iostream>
 #include <memory>
 
@@ -28,7 +30,9 @@ VerbRunner add_run(CLI::App& app) {
     RunOptions ro;
     ro.output_dir = a->output;
     ro.overwrite = a->overwrite;
-    if (!a->out.quiet) ro.on_stage = [](const std::string& stage) { std::cerr << "run: " << stage << "\n"; };
+    // Stage lines are progress: on a terminal only (a refused run prints one line).
+    if (!a->out.quiet && isatty(STDERR_FILENO))
+      ro.on_stage = [](const std::string& stage) { std::cerr << "run: " << stage << "\n"; };
     const RunResult r = run_study(study, ro);
     print_warnings(r.warnings);
     print_notes(r.notes, a->out.quiet);

@@ -116,7 +116,9 @@ GridSpec make_grid(const GridOptions& o, int dimension, const std::vector<double
                                      std::to_string(g.nx) + " x " + std::to_string(g.ny) +
                                      (dimension == 3 ? " x " + std::to_string(g.nz) : "") +
                                      "), more than the limit of " + number(static_cast<double>(max_nodes)) +
-                                     "; use a larger --cell or a smaller --extent");
+                                     "; its estimate and variance alone would take " +
+                                     number(nodes * 16 / 1e12) +
+                                     " TB; use a larger --cell or a smaller --extent");
   return g;
 }
 

@@ -159,6 +159,7 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
   s.samples = n;
   s.folds = options.folds;
   double se = 0, sae = 0, sse = 0, sz = 0, szz = 0;
+  std::size_t standardised = 0;  // rows with a standardised error
   std::vector<double> obs, est;
   for (std::size_t i = 0; i < n; ++i) {
     CrossValidationRow& r = result.rows[i];
@@ -175,6 +176,13 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
       continue;
     }
     const NodeOutput o = finisher.finish(e);
+    if (!std::isfinite(o.estimate)) {  // e.g. a back-transform that overflows
+      ++s.counts.non_finite;
+      --s.counts.estimated;
+      r.ok = false;
+      r.estimate = r.variance = r.error = r.standardised_error = std::nan("");
+      continue;
+    }
     r.estimate = o.estimate;
     r.variance = e.variance;
     r.error = r.estimate - r.observed;
@@ -184,8 +192,11 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
     sae += std::abs(r.error);
     sse += r.error * r.error;
     if (std::isfinite(r.standardised_error)) {
+      ++standardised;
       sz += r.standardised_error;
       szz += r.standardised_error * r.standardised_error;
+    } else {
+      ++s.zero_variance;
     }
     obs.push_back(r.observed);
     est.push_back(r.estimate);
@@ -195,8 +206,9 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
     s.mean_error = se / m;
     s.mean_absolute_error = sae / m;
     s.rmse = std::sqrt(sse / m);
-    s.mean_standardised_error = sz / m;
-    s.mean_squared_standardised_error = szz / m;
+    const double ms = static_cast<double>(standardised);
+    s.mean_standardised_error = standardised ? sz / ms : std::nan("");
+    s.mean_squared_standardised_error = standardised ? szz / ms : std::nan("");
     const double mo = std::accumulate(obs.begin(), obs.end(), 0.0) / m;
     const double me = std::accumulate(est.begin(), est.end(), 0.0) / m;
     double soo = 0, see = 0, soe = 0;
@@ -206,10 +218,24 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
       soe += (obs[k] - mo) * (est[k] - me);
     }
     s.correlation = soo > 0 && see > 0 ? soe / std::sqrt(soo * see) : std::nan("");
+  } else {
+    s.mean_error = s.mean_absolute_error = s.rmse = std::nan("");
+    s.mean_standardised_error = s.mean_squared_standardised_error = s.correlation = std::nan("");
   }
   s.counts.threads = threads;
   s.counts.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
-  s.counts.warnings = describe(s.counts);
+  s.counts.warnings = finisher.warnings();
+  // Blank cells and undefined figures are said, never left to be found.
+  for (const auto& line : describe(s.counts, "sample")) s.counts.warnings.push_back(line);
+  if (s.zero_variance > 0)
+    s.counts.warnings.push_back(std::to_string(s.zero_variance) +
+                                " sample(s) have a kriging variance of 0 (a sample at the same "
+                                "place is left in, or the model has no nugget and a neighbour "
+                                "coincides), so their standardised_error is empty and left out of "
+                                "the standardised means");
+  if (s.estimated > 0 && !std::isfinite(s.correlation))
+    s.counts.warnings.push_back("the correlation of observed and estimated values is undefined: "
+                                "one of them does not vary");
   return result;
 }
 
@@ -250,8 +276,12 @@ std::string crossval_summary_text(const CrossValidationResult& r) {
   out << "Cross-validation (" << (s.folds >= 2 ? std::to_string(s.folds) + "-fold" : "leave-one-out")
       << "): " << s.estimated << " of " << s.samples << " samples estimated\n";
   auto line = [&out](const char* label, double v, const char* ideal) {
-    out << "  " << std::left << std::setw(36) << label << std::right << std::setw(14)
-        << std::setprecision(6) << v << "   " << ideal << "\n";
+    out << "  " << std::left << std::setw(36) << label << std::right << std::setw(14);
+    if (std::isfinite(v))
+      out << std::setprecision(6) << v;
+    else
+      out << "-";  // undefined; a warning says why
+    out << "   " << ideal << "\n";
   };
   line("mean error (ME)", s.mean_error, "ideally 0");
   line("mean absolute error (MAE)", s.mean_absolute_error, "");

@@ -11,6 +11,7 @@
 #include <limits>
 #include <sstream>
 
+#include "core/point_index.hpp"
 #include "kriging/dense.hpp"
 #include "models/kernel.hpp"
 #include "sillstone/error.hpp"
@@ -26,6 +27,19 @@ constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 // Relative pivot below which a system counts as singular or badly
 // conditioned: about 1e-12 of a diagonal entry loses all but ~4 digits.
 constexpr double kPivotTol = 1e-12;
+// Estimated reciprocal condition number below which a system that passed the
+// pivot test still counts as badly conditioned: the weights may then be
+// wrong from the fourth digit on (relative error up to about
+// machine epsilon / rcond = 1e-4). Smooth models without a nugget (gaussian)
+// on dense samples give such systems with every pivot above kPivotTol.
+constexpr double kRcondTol = 1e-12;
+// Fewer samples than this draw a warning: the map then shows the model more
+// than the data, and nothing checks the model (common practice).
+constexpr std::size_t kFewSamples = 10;
+// Two samples whose values the model correlates above 1 - kNearDuplicate are
+// "near-duplicates": kriging systems holding both lose about -log10 of this
+// many digits, and cross-validation estimates each from the other.
+constexpr double kNearDuplicate = 1e-6;
 
 std::string fmt(double v) {
   std::ostringstream s;
@@ -47,7 +61,39 @@ int drift_columns(const KrigingOptions& o, int dimension) {
   return p;
 }
 
+// Opens an external drift raster and refuses what kriging cannot use: an
+// unreadable file, no band, a rotated grid, a CRS other than the samples',
+// a raster too large to hold in memory. Fills `gt` with its geotransform.
+std::unique_ptr<GDALDataset> open_external_drift(const std::string& path, const SampleSet& samples,
+                                                 double* gt) {
+  GDALAllRegister();
+  std::unique_ptr<GDALDataset> ds(GDALDataset::Open(path.c_str(), GDAL_OF_RASTER | GDAL_OF_READONLY,
+                                                    nullptr, nullptr, nullptr));
+  if (!ds || ds->GetRasterCount() < 1)
+    throw InputError(kComponent, path + ": cannot be read as a raster (--external-drift)");
+  if (ds->GetGeoTransform(gt) != CE_None || gt[2] != 0 || gt[4] != 0)
+    throw InputError(kComponent, path + ": needs a north-up geotransform (--external-drift)");
+  if (const OGRSpatialReference* srs = ds->GetSpatialRef()) {
+    if (!samples.crs_wkt.empty()) {
+      OGRSpatialReference mine;
+      mine.importFromWkt(samples.crs_wkt.c_str());
+      if (!srs->IsSame(&mine))
+        throw InputError(kComponent, path + ": its CRS (" + std::string(srs->GetName()) +
+                                         ") differs from the samples' (" + samples.crs_name +
+                                         "); reproject one of them");
+    }
+  }
+  if (static_cast<double>(ds->GetRasterXSize()) * static_cast<double>(ds->GetRasterYSize()) > 2e8)
+    throw InputError(kComponent, path + ": too large to hold in memory (over 200 million cells)");
+  return ds;
+}
+
 }  // namespace
+
+void check_external_drift(const std::string& path, const SampleSet& samples) {
+  double gt[6];
+  open_external_drift(path, samples, gt);
+}
 
 // --- External drift raster, held in memory -----------------------------------------
 struct KrigingEngine::External {
@@ -186,6 +232,14 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
   }
   drift_terms_ = drift_columns(options, dimension_);
   const std::size_t needed = std::max<std::size_t>(static_cast<std::size_t>(drift_terms_) + 1, 1);
+  if (!neighbourhood.global && drift_terms_ > 1 &&
+      static_cast<std::size_t>(neighbourhood.max_points) < needed)
+    throw InputError(kComponent, "--max-points " + std::to_string(neighbourhood.max_points) +
+                                     " is too few for " + std::string(name_of(options.method)) +
+                                     " kriging with these drift terms: its " +
+                                     std::to_string(drift_terms_) +
+                                     " drift terms need at least " + std::to_string(needed) +
+                                     " samples in each system");
   if (values_.size() < needed)
     throw InputError(kComponent, samples.source + ": " + std::to_string(values_.size()) +
                                      " sample(s) with a value; " + std::string(name_of(options.method)) +
@@ -232,33 +286,10 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
 
   // External drift: the raster's value at each sample.
   if (!options.external_drift.empty()) {
-    GDALAllRegister();
-    std::unique_ptr<GDALDataset> ds(GDALDataset::Open(options.external_drift.c_str(),
-                                                      GDAL_OF_RASTER | GDAL_OF_READONLY, nullptr,
-                                                      nullptr, nullptr));
-    if (!ds)
-      throw InputError(kComponent, options.external_drift +
-                                       ": cannot be read as a raster (--external-drift)");
     auto ext = std::make_unique<External>();
-    if (ds->GetGeoTransform(ext->gt) != CE_None || ext->gt[2] != 0 || ext->gt[4] != 0)
-      throw InputError(kComponent, options.external_drift +
-                                       ": needs a north-up geotransform (--external-drift)");
-    if (const OGRSpatialReference* srs = ds->GetSpatialRef()) {
-      if (!samples.crs_wkt.empty()) {
-        OGRSpatialReference mine;
-        mine.importFromWkt(samples.crs_wkt.c_str());
-        if (!srs->IsSame(&mine))
-          throw InputError(kComponent, options.external_drift + ": its CRS (" +
-                                           std::string(srs->GetName()) +
-                                           ") differs from the samples' (" + samples.crs_name +
-                                           "); reproject one of them");
-      }
-    }
+    const std::unique_ptr<GDALDataset> ds = open_external_drift(options.external_drift, samples, ext->gt);
     ext->nx = ds->GetRasterXSize();
     ext->ny = ds->GetRasterYSize();
-    if (static_cast<double>(ext->nx) * static_cast<double>(ext->ny) > 2e8)
-      throw InputError(kComponent, options.external_drift +
-                                       ": too large to hold in memory (over 200 million cells)");
     GDALRasterBand* band = ds->GetRasterBand(1);
     int has = 0;
     ext->nodata = band->GetNoDataValue(&has);
@@ -298,6 +329,8 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
                            "): e.g. samples on one line cannot fix a linear drift, or the "
                            "external drift is constant at the samples");
   }
+
+  diagnose(samples, used);
 
   // Simple kriging mean: given, or the declustered mean of the kriged values.
   if (options.method == KrigingMethod::simple) {
@@ -355,6 +388,96 @@ void KrigingEngine::drift_row(const Point& c, double external, double* f) const 
 
 double KrigingEngine::external_at(const Point& p) const {
   return external_raster_ ? external_raster_->at(p.x, p.y) : kNaN;
+}
+
+// --- Warnings about the data and the model -------------------------------------------------
+void KrigingEngine::diagnose(const SampleSet& samples, const std::vector<std::size_t>& used) {
+  const std::size_t n = points_.size();
+  if (n < kFewSamples)
+    warnings_.push_back("only " + std::to_string(n) + " sample(s) with a value: the estimates and "
+                        "variances rest on the model, which so few samples cannot check "
+                        "(common practice: kriging wants some tens of samples)");
+  if (n >= 2 && std::all_of(values_.begin(), values_.end(), [this](double v) { return v == values_.front(); }))
+    warnings_.push_back("all " + std::to_string(n) + " values are equal (" + fmt(values_.front()) +
+                        "): there is no spatial variation; the estimate is that value everywhere");
+
+  // Samples on one line (2D) or one plane (3D): the map away from it rests on
+  // the model alone, and a linear drift cannot be fitted.
+  if (n >= static_cast<std::size_t>(dimension_) + 1) {
+    Eigen::MatrixXd f(static_cast<Eigen::Index>(n), dimension_ + 1);
+    for (std::size_t i = 0; i < n; ++i) {
+      const auto r = static_cast<Eigen::Index>(i);
+      f(r, 0) = 1.0;
+      f(r, 1) = points_[i].x / drift_scale_;
+      f(r, 2) = points_[i].y / drift_scale_;
+      if (dimension_ == 3) f(r, 3) = points_[i].z / drift_scale_;
+    }
+    Eigen::ColPivHouseholderQR<Eigen::MatrixXd> qr(f);
+    qr.setThreshold(1e-10);
+    if (qr.rank() < dimension_ + 1)
+      warnings_.push_back(std::string("the samples lie on one ") + (dimension_ == 3 ? "plane" : "line") +
+                          ": away from it the estimates rest on the model alone, and universal "
+                          "kriging with a linear drift is not possible");
+  }
+
+  if (n < 2 || !model_.has_sill()) return;
+  // Near-duplicates: pairs the model correlates almost perfectly.
+  detail::PointIndex index(points_, dimension_);
+  std::vector<double> spacing;
+  std::vector<std::string> pairs;
+  std::size_t near = 0;
+  const double sill = model_.total_sill();
+  for (std::size_t i = 0; i < n; ++i) {
+    const double q[3] = {points_[i].x, points_[i].y, points_[i].z};
+    std::uint32_t idx[2];
+    double d[2];
+    if (index.nearest(q, 2, idx, d) < 2) continue;
+    const std::uint32_t j = idx[0] == i ? idx[1] : idx[0];
+    spacing.push_back(idx[0] == i ? d[1] : d[0]);
+    if (j < i) continue;  // each pair once, from its first sample
+    const Point& a = points_[i];
+    const Point& b = points_[j];
+    if (model_.variogram(a.x - b.x, a.y - b.y, a.z - b.z) < kNearDuplicate * sill) {
+      ++near;
+      if (pairs.size() < 5) {
+        std::ostringstream s;
+        s.precision(3);
+        s << samples.ids[used[i]] << " and " << samples.ids[used[j]] << ", "
+          << std::hypot(a.x - b.x, a.y - b.y, a.z - b.z) << " apart";
+        pairs.push_back(s.str());
+      }
+    }
+  }
+  if (near > 0) {
+    std::string list;
+    for (const auto& p : pairs) list += (list.empty() ? "" : "; ") + p;
+    warnings_.push_back(std::to_string(near) + " pair(s) of samples are near-duplicates: so close that "
+                        "the model correlates their values above 1 - 1e-6 (" + list +
+                        (near > pairs.size() ? "; ..." : "") +
+                        "). Kriging systems holding both are ill-conditioned and cross-validation "
+                        "estimates each from the other; merge them (one location each) or add a "
+                        "nugget");
+  }
+
+  // A gaussian structure without nugget on samples that are dense for its
+  // range: the covariance matrix is then close to singular (its smallest
+  // eigenvalues fall off like exp(-c (range / spacing)^2)).
+  if (model_.nugget() > 0 || spacing.empty()) return;
+  std::sort(spacing.begin(), spacing.end());
+  const double median = spacing[spacing.size() / 2];
+  for (const Structure& s : model_.structures()) {
+    if (s.family != Family::gaussian || !(s.sill > 0)) continue;
+    const double minor = s.range * std::min(s.anisotropy.ratio, dimension_ == 3 ? s.anisotropy.ratio2 : 1.0);
+    // Correlation of the gaussian at the median spacing along its shortest axis.
+    const double rho = std::exp(-3.0 * (median / minor) * (median / minor));
+    if (rho > 0.9)
+      warnings_.push_back("the model has a gaussian structure (range " + fmt(s.range) +
+                          ") and no nugget, and the samples are dense for that range (median "
+                          "spacing " + fmt(median) + "): kriging systems are then "
+                          "ill-conditioned, and those that fail the condition check are left "
+                          "unestimated; a small nugget (say 1% of the sill) cures this");
+    break;
+  }
 }
 
 // --- One target ---------------------------------------------------------------------------
@@ -462,9 +585,32 @@ void KrigingEngine::factorise(Workspace& ws) const {
     }
     kernel_->evaluate(n - j, ws.lag_x.data(), ws.lag_y.data(), dz, ws.L.data() + j * ld + j);
   }
+  // Smooth models without a nugget (gaussian) on dense samples give systems
+  // that pass the pivot test yet are badly conditioned; the reciprocal
+  // condition number is estimated for them. A nugget bounds cond(K) by about
+  // n * sill / nugget, so with one the estimate is skipped (it costs about
+  // as much as the factorisation).
+  const bool check_condition = model_.nugget() < 1e-9 * model_.total_sill();
+  double norm1 = 0;
+  if (check_condition) {
+    ws.cond_l.resize(n * n);
+    ws.cond_x.resize(n);
+    ws.cond_z.resize(n);
+    for (std::size_t j = 0; j < n; ++j)
+      for (std::size_t i = j; i < n; ++i) ws.cond_l[j * n + i] = ws.L[j * ld + i];
+    norm1 = detail::symmetric_norm1(ws.cond_l.data(), n, ws.cond_x.data());
+  }
   if (!detail::cholesky_ld(ws.L.data(), ld, n, ws.inv_diag.data(), ws.block_cov.data(), kPivotTol)) {
     ws.factor_status = NodeEstimate::Status::singular;
     return;
+  }
+  if (check_condition) {
+    for (std::size_t j = 0; j < n; ++j)
+      for (std::size_t i = j; i < n; ++i) ws.cond_l[j * n + i] = ws.L[j * ld + i];
+    if (detail::cholesky_rcond(ws.cond_l.data(), n, norm1, ws.cond_x.data(), ws.cond_z.data()) < kRcondTol) {
+      ws.factor_status = NodeEstimate::Status::singular;
+      return;
+    }
   }
   const bool simple = p == 0;
   for (std::size_t i = 0; i < n; ++i) ws.w[i] = simple ? values_[ws.nb[i]] - mean_ : values_[ws.nb[i]];

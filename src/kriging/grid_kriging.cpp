@@ -4,6 +4,7 @@
 #include <ogr_spatialref.h>
 #include <ogrsf_frmts.h>
 #include <omp.h>
+#include <unistd.h>  // sysconf: the machine's memory
 
 #include <algorithm>
 #include <chrono>
@@ -13,6 +14,7 @@
 #include <fstream>
 #include <functional>
 #include <future>
+#include <limits>
 #include <memory>
 #include <sstream>
 
@@ -180,20 +182,111 @@ void tally(const std::vector<NodeEstimate>& block, KrigingSummary& s) {
 
 }  // namespace
 
+void check_mask(const std::string& path, const GridSpec& grid) { Mask(path, grid); }
+
 std::string probability_name(double threshold) { return "probability_above_" + detail::shortest(threshold); }
 
-std::vector<std::string> describe(const KrigingSummary& s) {
+std::vector<std::string> describe(const KrigingSummary& s, const std::string& target) {
   std::vector<std::string> out;
   auto line = [&out](std::int64_t n, const std::string& text) {
     if (n > 0) out.push_back(std::to_string(n) + " " + text);
   };
-  line(s.masked, "node(s) outside the mask or block list: nodata or left out");
-  line(s.too_few_neighbours, "node(s) with fewer samples than --min-points in the search: nodata");
-  line(s.singular, "node(s) whose kriging system was singular or badly conditioned "
-                   "(near-duplicate samples, or a gaussian model without nugget): nodata");
-  line(s.drift_unresolved, "node(s) whose neighbours cannot fix the drift: nodata");
-  line(s.outside_drift, "node(s) outside the external drift raster: nodata");
+  const std::string t = target + "(s)";
+  const std::string left = target == "node" ? ": nodata" : ": left unestimated";
+  line(s.masked, t + " outside the mask or block list: nodata or left out");
+  line(s.too_few_neighbours, t + " with fewer samples than --min-points in the search" + left);
+  line(s.singular, t + " whose kriging system was singular or badly conditioned "
+                       "(near-duplicate samples, or a gaussian model without nugget)" + left);
+  line(s.drift_unresolved, t + " whose neighbours cannot fix the drift" + left);
+  line(s.outside_drift, t + " outside the external drift raster" + left);
+  line(s.non_finite, "estimated " + t + " whose estimate, variance or probability is not a "
+                     "finite number (e.g. a back-transform that overflows)" + left);
+  for (const auto& [column, count] : s.empty_columns) {
+    const std::string why =
+        column == "kriging_efficiency"    ? "the model has no sill, or the block variance is 0"
+        : column == "slope_of_regression" ? "every weight is 0 (lambda'K lambda = 0)"
+                                          : "the value is not a finite number";
+    line(count, "estimated row(s) with an empty " + column + ": " + why);
+  }
   return out;
+}
+
+namespace {
+
+// Nodes kriged at once for a raster: 256 rows (the GeoTIFF tile height),
+// fewer for very wide grids, at most about 4 million nodes.
+std::int64_t raster_block_rows(const GridSpec& grid) {
+  return std::max<std::int64_t>(1, std::min<std::int64_t>(256, (1 << 22) / std::max<std::int64_t>(grid.nx, 1)));
+}
+
+// Bytes held per node while a block of nodes is kriged and written.
+constexpr double kBytesPerNode = sizeof(NodeEstimate) + sizeof(NodeOutput) + 2 * sizeof(double);
+// Bytes per row of a CSV block table (about 20 characters per number).
+constexpr double kTableBytesPerValue = 20;
+
+std::string bytes_text(double bytes) {
+  const char* units[] = {"bytes", "kB", "MB", "GB", "TB"};
+  int u = 0;
+  while (bytes >= 1000 && u < 4) {
+    bytes /= 1000;
+    ++u;
+  }
+  std::ostringstream s;
+  s.precision(bytes < 10 ? 2 : 3);
+  s << bytes << " " << units[u];
+  return s.str();
+}
+
+}  // namespace
+
+OutputSize output_size(const GridSpec& grid, std::size_t values_per_node, bool table) {
+  OutputSize o;
+  const double nodes = static_cast<double>(grid.nx) * static_cast<double>(grid.ny) *
+                       static_cast<double>(grid.nz);
+  const double values = static_cast<double>(values_per_node);
+  if (table) {
+    o.disk = nodes * (values + 3) * kTableBytesPerValue;  // x, y, z and the values
+    // One layer of estimates at a time, and the block list's flags.
+    o.memory = static_cast<double>(grid.nx) * static_cast<double>(grid.ny) * kBytesPerNode + nodes;
+  } else {
+    o.disk = nodes * values * sizeof(double);  // uncompressed
+    o.memory = static_cast<double>(grid.nx) * static_cast<double>(raster_block_rows(grid)) * kBytesPerNode;
+  }
+  return o;
+}
+
+void check_output_size(const GridSpec& grid, std::size_t values_per_node, bool table,
+                       const std::string& path) {
+  namespace fs = std::filesystem;
+  if (!table) {
+    constexpr std::int64_t kMaxSide = std::numeric_limits<int>::max();  // GDAL's raster size type
+    if (grid.nx > kMaxSide || grid.ny > kMaxSide)
+      throw InputError("grid", path + ": a raster has at most " + std::to_string(kMaxSide) +
+                                   " columns and rows; this grid has " + std::to_string(grid.nx) +
+                                   " x " + std::to_string(grid.ny) +
+                                   "; use a larger --cell or a smaller --extent");
+  }
+  const OutputSize need = output_size(grid, values_per_node, table);
+  const std::string nodes = std::to_string(grid.nodes()) + " nodes x " +
+                            std::to_string(values_per_node) + " values";
+  const fs::path folder = fs::path(path).has_parent_path() ? fs::path(path).parent_path() : fs::path(".");
+  std::error_code ec;
+  const fs::space_info space = fs::space(folder, ec);
+  if (!ec && need.disk > static_cast<double>(space.available))
+    throw InputError("grid", path + ": the output would need about " + bytes_text(need.disk) +
+                                 (table ? "" : " uncompressed") + " (" + nodes + "), more than the " +
+                                 bytes_text(static_cast<double>(space.available)) + " free in " +
+                                 folder.string() + "; use a larger --cell or a smaller --extent");
+  const long pages = ::sysconf(_SC_PHYS_PAGES), page = ::sysconf(_SC_PAGE_SIZE);
+  if (pages > 0 && page > 0) {
+    const double memory = static_cast<double>(pages) * static_cast<double>(page);
+    if (need.memory > memory)
+      throw InputError("grid", path + ": kriging this grid would need about " +
+                                   bytes_text(need.memory) + " of memory (" + nodes +
+                                   (table ? ", one layer at a time" : ", one block of rows at a time") +
+                                   "), more than the " + bytes_text(memory) +
+                                   " this machine has; use a larger --cell or a smaller --extent");
+  }
 }
 
 KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
@@ -236,7 +329,13 @@ KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
   auto write_block = [&](Buffers& b, std::int64_t row0, std::int64_t rows) {
     tally(b.block, summary);
     b.values.resize(b.block.size());
-    for (std::size_t i = 0; i < b.block.size(); ++i) b.values[i] = engine.finish(b.block[i]);
+    for (std::size_t i = 0; i < b.block.size(); ++i) {
+      b.values[i] = engine.finish(b.block[i]);
+      const NodeOutput& v = b.values[i];
+      if (b.block[i].ok() && (!std::isfinite(v.estimate) || !std::isfinite(v.variance) ||
+                              (with_probability && !std::isfinite(v.probability))))
+        ++summary.non_finite;  // written as nodata, and counted in a warning
+    }
     b.band.resize(b.block.size());
     auto write = [&](int index, double NodeOutput::*field) {
       for (std::size_t i = 0; i < b.values.size(); ++i) {
@@ -325,6 +424,7 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
   const std::int64_t per_layer = grid.nx * grid.ny;
   std::vector<unsigned char> layer_listed;
   std::vector<NodeEstimate> block;
+  std::int64_t empty_slope = 0, empty_efficiency = 0;
   for (std::int64_t layer_index = 0; layer_index < grid.nz; ++layer_index) {
     // Rows ascend in y (south to north) in the table.
     auto node = [&](std::int64_t i) {
@@ -339,6 +439,13 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
       if (!layer_listed.empty() && !layer_listed[static_cast<std::size_t>(i)]) continue;  // not listed
       const NodeEstimate& e = block[static_cast<std::size_t>(i)];
       const NodeOutput o = engine.finish(e);
+      if (e.ok()) {
+        if (!std::isfinite(o.estimate) || !std::isfinite(o.variance) ||
+            (with_probability && !std::isfinite(o.probability)))
+          ++summary.non_finite;
+        empty_slope += !std::isfinite(o.slope);
+        empty_efficiency += !std::isfinite(o.efficiency);
+      }
       const Point p = node(i);
       std::vector<double> v = {p.x, p.y, p.z, o.estimate, o.variance, static_cast<double>(e.neighbours)};
       if (with_probability) v.push_back(o.probability);
@@ -377,6 +484,8 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
     gpkg.reset();
   }
   out.commit();
+  if (empty_slope) summary.empty_columns.push_back({"slope_of_regression", empty_slope});
+  if (empty_efficiency) summary.empty_columns.push_back({"kriging_efficiency", empty_efficiency});
   summary.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   summary.warnings = describe(summary);
   return summary;

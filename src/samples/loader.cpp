@@ -14,6 +14,7 @@
 #include <memory>
 #include <mutex>
 #include <numeric>
+#include <sstream>
 
 #include "samples/csv_lines.hpp"
 #include "sillstone/error.hpp"
@@ -479,6 +480,26 @@ SampleSet load_samples(const SampleOptions& options) {
         " (--duplicates " + std::string(name_of(options.duplicates)) + ")");
   }
   return set;
+}
+
+void require_variation(const SampleSet& samples, std::size_t column, const std::string& component) {
+  if (column >= samples.values.size()) return;
+  const std::vector<double>& v = samples.values[column];
+  std::size_t count = 0;
+  double first = std::nan("");
+  bool varies = false;
+  for (double x : v) {
+    if (std::isnan(x)) continue;
+    if (count++ == 0) first = x;
+    else if (x != first) varies = true;
+  }
+  if (varies || count == 0) return;
+  std::ostringstream value;
+  value.precision(10);
+  value << first;
+  throw InputError(component, InputLocation{samples.source, "", samples.value_names[column]},
+                   "all " + std::to_string(count) + " values are equal (" + value.str() +
+                       "): with zero variance there is no spatial variation to fit a model to");
 }
 
 }  // namespace sillstone

@@ -5,6 +5,7 @@
 #include <ctime>
 #include <filesystem>
 #include <fstream>
+#include <memory>
 #include <sstream>
 
 #include <nlohmann/json.hpp>
@@ -41,7 +42,8 @@ std::string utc_now() {
 std::string prepare_folder(const std::string& dir) {
   if (dir.empty())
     throw InputError("run", "no run folder: give -o DIR or [output] dir = \"...\" in the study");
-  const fs::path p(dir);
+  fs::path p = fs::path(dir).lexically_normal();
+  if (!p.has_filename() && p.has_parent_path()) p = p.parent_path();  // "runs/site/"
   std::error_code ec;
   if (fs::exists(p, ec) && !fs::is_directory(p, ec))
     throw InputError("output", dir + ": exists and is not a folder");
@@ -90,6 +92,40 @@ nlohmann::json cross_validation_json(
 
 }  // namespace
 
+namespace {
+
+// The run folder while a run is under way: removed again when the run fails
+// and this run created it (only when empty: nothing else is ever removed).
+class FolderGuard {
+ public:
+  explicit FolderGuard(const std::string& dir) : path_(dir) {
+    std::error_code ec;
+    created_ = !fs::exists(path_, ec);
+  }
+  ~FolderGuard() {
+    if (!created_ || kept_) return;
+    std::error_code ec;
+    fs::remove(path_, ec);  // fails harmlessly unless empty
+  }
+  FolderGuard(const FolderGuard&) = delete;
+  FolderGuard& operator=(const FolderGuard&) = delete;
+  void keep() { kept_ = true; }
+
+ private:
+  fs::path path_;
+  bool created_ = false, kept_ = false;
+};
+
+void write_file(const std::string& path, const std::string& text) {
+  std::ofstream f(path, std::ios::binary | std::ios::trunc);
+  if (!f) throw std::runtime_error("cannot write " + path);
+  f << text;
+  f.close();
+  if (!f) throw std::runtime_error("writing " + path + " failed");
+}
+
+}  // namespace
+
 RunResult run_study(const Study& st, const RunOptions& ro) {
   const auto stage = [&ro](const char* name) {
     if (ro.on_stage) ro.on_stage(name);
@@ -97,25 +133,53 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   const bool overwrite = ro.overwrite || st.overwrite;
   RunResult result;
 
-  // Samples first (cheap): the dimension decides the outputs' names, and
-  // every output is checked before any long work.
+  // Everything that can be refused is refused before any long work and
+  // before anything is written: the samples, the outputs' paths, the grid
+  // and its size, the model when given, the mask and the external drift.
   stage("samples");
   const SampleSet samples = load_samples(st.samples);
   append(result.warnings, samples.summary.warnings);
+  if (st.model.kind != ModelChoice::Kind::spec) require_variation(samples, 0, "run");
   const bool three_d = samples.dimension == 3;
-  result.folder = prepare_folder(ro.output_dir.empty() ? st.output_dir : ro.output_dir);
+  const std::string dir = ro.output_dir.empty() ? st.output_dir : ro.output_dir;
+  FolderGuard guard(dir);
+  result.folder = prepare_folder(dir);
   const auto out = [&result](const char* name) { return (fs::path(result.folder) / name).string(); };
   std::vector<std::string> names = {"summary.json", "variogram.csv", "model.json", "crossval.csv",
                                     three_d ? "blocks.csv" : "estimate.tif", "report.html",
                                     "run.json"};
   if (!three_d) names.push_back("variogram_surface.tif");
   for (const auto& n : names) check_output_path(out(n.c_str()), overwrite);
-  auto wrote = [&result](const std::string& path) { result.files.push_back(path); };
+
+  const GridSpec grid = make_grid(st.grid, samples.dimension, sample_extent(samples), samples.crs_wkt);
+  const std::size_t extra = std::isnan(st.kriging.threshold) ? 0 : 1;
+  check_output_size(grid, three_d ? 5 + extra : 2 + extra, three_d,
+                    out(three_d ? "blocks.csv" : "estimate.tif"));
+  if (!st.mask.empty()) {
+    if (three_d)
+      throw InputError("study", st.path + ": [grid] mask applies to 2D rasters; a 3D block "
+                                          "model is limited with [grid] blocks");
+    check_mask(st.mask, grid);
+  }
+  if (!st.kriging.external_drift.empty()) check_external_drift(st.kriging.external_drift, samples);
+  for (const auto& alt : st.crossval_also)
+    if (!alt.options.external_drift.empty()) check_external_drift(alt.options.external_drift, samples);
+  ModelFile model;
+  if (st.model.kind == ModelChoice::Kind::spec) model = load_model(st.model.spec);
+
+  // Outputs are written under temporary names and renamed together at the
+  // end: a run that fails or is interrupted leaves the folder as it was.
+  std::vector<std::unique_ptr<PendingOutput>> staged;
+  std::vector<std::string> final_paths;
+  auto stage_output = [&](const char* name) -> std::string {
+    staged.push_back(std::make_unique<PendingOutput>(out(name), overwrite));
+    final_paths.push_back(out(name));
+    return staged.back()->temp_path();
+  };
 
   const DataSummary summary = summarise(samples, {});
   append(result.warnings, summary.warnings);
-  write_text_output(out("summary.json"), summary_to_json(summary) + "\n", overwrite);
-  wrote(out("summary.json"));
+  write_file(stage_output("summary.json"), summary_to_json(summary) + "\n");
 
   // Variogram: the study's classes, or the suggested ones.
   stage("variogram");
@@ -130,19 +194,13 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   vo.threads = st.kriging.threads;
   const EmpiricalVariogram variogram = compute_variogram(samples, vo);
   append(result.warnings, variogram.summary.warnings);
-  write_variogram(out("variogram.csv"), variogram, overwrite);
-  wrote(out("variogram.csv"));
-  if (variogram.surface) {
-    write_variogram_surface(out("variogram_surface.tif"), variogram, overwrite);
-    wrote(out("variogram_surface.tif"));
-  }
+  write_variogram(stage_output("variogram.csv"), variogram, false);
+  if (variogram.surface) write_variogram_surface(stage_output("variogram_surface.tif"), variogram, false);
 
   // Model: given, fitted or chosen.
   stage("model");
-  ModelFile model;
   std::string fit_table;
   if (st.model.kind == ModelChoice::Kind::spec) {
-    model = load_model(st.model.spec);
     if (model.fit.empty() && st.model.spec.find(".json") == std::string::npos)
       model.transform = vo.transform;  // a SPEC describes the variogram it was written for
   } else {
@@ -151,14 +209,18 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
     fit_table = fitted.table;
     append(result.warnings, fitted.warnings);
   }
-  write_text_output(out("model.json"), model_to_json(model) + "\n", overwrite);
-  wrote(out("model.json"));
+  write_file(stage_output("model.json"), model_to_json(model) + "\n");
 
   KrigingOptions ko = st.kriging;
   if (!st.kriging_transform_given) ko.transform = model.transform;
   if (ko.transform == Transform::normal_score)
     throw InputError("run", "kriging with the normal-score transform is not offered; use "
                             "transform = \"log\" or \"none\" in [kriging]");
+  // Built before cross-validation: it refuses options that do not fit the
+  // data or the model, and says what it finds doubtful in them.
+  const KrigingEngine engine(samples, model.model, ko, st.neighbourhood);
+  append(result.notes, engine.notes());
+  append(result.warnings, engine.warnings());
 
   CrossValidationResult cv;
   std::vector<std::pair<std::string, CrossValidationSummary>> alternatives;
@@ -166,8 +228,7 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
     stage("crossval");
     cv = cross_validate(samples, model.model, ko, st.neighbourhood, st.crossval);
     append(result.warnings, cv.summary.counts.warnings);
-    write_text_output(out("crossval.csv"), crossval_csv(cv, samples.dimension), overwrite);
-    wrote(out("crossval.csv"));
+    write_file(stage_output("crossval.csv"), crossval_csv(cv, samples.dimension));
     for (const auto& alt : st.crossval_also) {
       KrigingOptions o = alt.options;
       if (!st.kriging_transform_given) o.transform = ko.transform;
@@ -177,25 +238,20 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   }
 
   stage("kriging");
-  const GridSpec grid = make_grid(st.grid, samples.dimension, sample_extent(samples), samples.crs_wkt);
   append(result.notes, grid.notes);
-  const KrigingEngine engine(samples, model.model, ko, st.neighbourhood);
-  append(result.notes, engine.notes());
   KrigingSummary ks;
   std::string map_path;
   if (three_d) {
-    map_path = out("blocks.csv");
+    map_path = stage_output("blocks.csv");
     TableTarget table;
     table.path = map_path;
-    table.overwrite = overwrite;
     table.blocks = st.blocks;
     ks = krige_table(engine, grid, table);
   } else {
-    map_path = out("estimate.tif");
+    map_path = stage_output("estimate.tif");
     RasterTarget target;
     target.path = map_path;
     target.format = st.format;
-    target.overwrite = overwrite;
     target.mask = st.mask;
     target.metadata = {{"SILLSTONE_VERSION", version()},
                        {"SILLSTONE_MODEL", to_spec(model.model)},
@@ -204,7 +260,6 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
     ks = krige_raster(engine, grid, target);
   }
   append(result.warnings, ks.warnings);
-  wrote(map_path);
 
   // run.json: inputs with checksums, every setting, the version, the time.
   std::vector<std::pair<std::string, std::string>> inputs;  // (role: path, sha256)
@@ -239,9 +294,7 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   report.warnings = result.warnings;
   report.notes = result.notes;
   report.version = version();
-  write_text_output(out("report.html"), render_report(report), overwrite);
-  wrote(out("report.html"));
-  result.report = out("report.html");
+  write_file(stage_output("report.html"), render_report(report));
 
   using nlohmann::json;
   json input_list = json::array();
@@ -250,8 +303,9 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
     input_list.push_back({{"role", what.substr(0, colon)}, {"path", what.substr(colon + 2)}, {"sha256", sha}});
   }
   json outputs = json::array();
-  for (const auto& f : result.files)
-    outputs.push_back({{"path", fs::path(f).filename().string()}, {"sha256", detail::sha256_file(f)}});
+  for (std::size_t i = 0; i < staged.size(); ++i)
+    outputs.push_back({{"path", fs::path(final_paths[i]).filename().string()},
+                       {"sha256", detail::sha256_file(staged[i]->temp_path())}});
   json run = {{"sillstone_version", version()},
               {"time_utc", utc_now()},
               {"inputs", input_list},
@@ -269,8 +323,15 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
               {"crossval", cross_validation_json(cv, alternatives, st.crossval_enabled)},
               {"notes", result.notes},
               {"warnings", result.warnings}};
-  write_text_output(out("run.json"), run.dump(2) + "\n", overwrite);
-  wrote(out("run.json"));
+  write_file(stage_output("run.json"), run.dump(2) + "\n");
+
+  // Every output is complete: rename them all into place.
+  for (std::size_t i = 0; i < staged.size(); ++i) {
+    staged[i]->commit();
+    result.files.push_back(final_paths[i]);
+  }
+  guard.keep();
+  result.report = out("report.html");
   return result;
 }
 

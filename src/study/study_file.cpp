@@ -5,6 +5,7 @@
 
 #include <cmath>
 #include <filesystem>
+#include <fstream>
 #include <functional>
 #include <map>
 #include <sstream>
@@ -99,15 +100,23 @@ using Handler = std::function<void(const toml::node&, const std::string& key)>;
 }  // namespace
 
 Study read_study(const std::string& path) {
-  Study st;
-  st.path = path;
   std::error_code ec;
   if (!fs::exists(path, ec)) throw InputError("study", path + ": no such file");
   if (fs::is_directory(path, ec)) throw InputError("study", path + ": is a folder, not a study file");
+  std::ifstream in(path, std::ios::binary);
+  if (!in) throw InputError("study", path + ": cannot be opened for reading");
+  std::ostringstream text;
+  text << in.rdbuf();
+  return parse_study(text.str(), path);
+}
+
+Study parse_study(const std::string& text, const std::string& path) {
+  Study st;
+  st.path = path;
   st.folder = fs::path(path).has_parent_path() ? fs::path(path).parent_path().string() : ".";
   toml::table doc;
   try {
-    doc = toml::parse_file(path);
+    doc = toml::parse(text, path);
   } catch (const toml::parse_error& e) {
     throw InputError("study", InputLocation{path, "line " + std::to_string(e.source().begin.line), ""},
                      "not valid TOML: " + std::string(e.description()));

@@ -350,6 +350,7 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
   }
   const Point centre{(lo.x + hi.x) / 2, (lo.y + hi.y) / 2, dim == 3 ? (lo.z + hi.z) / 2 : 0.0};
   for (auto& p : points) p = {p.x - centre.x, p.y - centre.y, dim == 3 ? p.z - centre.z : 0.0};
+  const bool all_equal = std::all_of(z.begin(), z.end(), [&z](double x) { return x == z.front(); });
   double mean = 0;
   for (double x : z) mean += x;
   mean /= static_cast<double>(n);
@@ -449,6 +450,7 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
 
   // Rows and their warnings.
   std::vector<std::string> sparse, empty;
+  std::size_t undefined_classes = 0;  // pairs, but no finite value (e.g. a correlogram of constant values)
   for (std::size_t r = 0; r < ndir; ++r) {
     const Direction& dir = directions[r];
     std::string label = dir.omni ? "omnidirectional" : "";
@@ -471,7 +473,10 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
       if (s.n == 0) {
         ++v.summary.empty_classes;
         none += (none.empty() ? "" : ", ") + bounds;
-      } else if (s.n < kFewPairs) {
+      } else if (!std::isfinite(row.value)) {
+        ++undefined_classes;
+      }
+      if (s.n > 0 && s.n < kFewPairs) {
         ++v.summary.sparse_classes;
         few += (few.empty() ? "" : ", ") + bounds;
       }
@@ -493,6 +498,14 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
   if (v.summary.empty_classes)
     v.summary.warnings.push_back(std::to_string(v.summary.empty_classes) +
                                  " class(es) hold no pair; their values are empty: " + join(empty));
+  if (undefined_classes)
+    v.summary.warnings.push_back(std::to_string(undefined_classes) +
+                                 " class(es) hold pairs but no defined value (the values of their "
+                                 "pairs do not vary); their values are empty");
+  if (all_equal)
+    v.summary.warnings.push_back("all values of '" + v.value +
+                                 "' are equal (zero variance): there is no spatial variation to "
+                                 "model");
 
   if (surface) {
     VariogramSurface s;

@@ -13,12 +13,17 @@ Each file in cases/ is one case:
     --- bad.csv
     x,y,v
     ...
+    --- crlf.csv [crlf, bom]
+    ...
 
+A file section's header may end with options in brackets: `crlf` writes the
+file with Windows line endings, `bom` starts it with a UTF-8 byte-order mark.
 `@name` in args is replaced by the path of the file written from the
 `--- name` section (in a fresh temporary folder, which is also the working
 directory); `@dir` by that folder. `{demo}` is the demo-sites folder.
 Regexes are Python `re.search` with MULTILINE.
-Usage: run_cases.py PATH/TO/sillstone CASES_DIR
+Usage: run_cases.py PATH/TO/sillstone CASES_DIR|CASE_FILE...
+(CTest runs each case as its own test.)
 """
 import os
 import re
@@ -37,8 +42,18 @@ def parse(path):
         for raw in f:
             line = raw.rstrip("\n")
             if line.startswith("--- "):
-                current = line[4:].strip()
+                header = line[4:].strip()
+                options = set()
+                m = re.match(r"^(\S+)\s*\[([^\]]*)\]$", header)
+                if m:
+                    header = m.group(1)
+                    options = {o.strip() for o in m.group(2).split(",") if o.strip()}
+                    unknown = options - {"crlf", "bom"}
+                    if unknown:
+                        raise ValueError(f"{path}: unknown file option(s) {sorted(unknown)}")
+                current = header
                 case["files"][current] = []
+                case.setdefault("file_options", {})[current] = options
                 continue
             if current is not None:
                 case["files"][current].append(raw)
@@ -60,8 +75,15 @@ def run(exe, path):
     case = parse(path)
     with tempfile.TemporaryDirectory() as tmp:
         for name, lines in case["files"].items():
-            with open(os.path.join(tmp, name), "w", encoding="utf-8", newline="") as f:
-                f.write("".join(lines))
+            options = case.get("file_options", {}).get(name, set())
+            text = "".join(lines)
+            if "crlf" in options:
+                text = text.replace("\n", "\r\n")
+            data = text.encode("utf-8")
+            if "bom" in options:
+                data = b"\xef\xbb\xbf" + data
+            with open(os.path.join(tmp, name), "wb") as f:
+                f.write(data)
         args = []
         for a in shlex.split(case["args"]):
             a = a.replace("{demo}", os.path.join(ROOT, "demo-sites"))
@@ -99,17 +121,22 @@ def run(exe, path):
 
 
 def main():
-    exe, cases_dir = os.path.abspath(sys.argv[1]), sys.argv[2]
-    names = sorted(n for n in os.listdir(cases_dir) if n.endswith(".case"))
+    exe = os.path.abspath(sys.argv[1])
+    paths = []
+    for arg in sys.argv[2:]:
+        if os.path.isdir(arg):
+            paths += [os.path.join(arg, n) for n in sorted(os.listdir(arg)) if n.endswith(".case")]
+        else:
+            paths.append(arg)
     failed = 0
-    for name in names:
-        problems = run(exe, os.path.join(cases_dir, name))
-        print(("ok    " if not problems else "FAIL  ") + name)
+    for path in paths:
+        problems = run(exe, path)
+        print(("ok    " if not problems else "FAIL  ") + os.path.basename(path))
         for line in problems:
             print("      " + line)
         failed += bool(problems)
-    print(f"{len(names) - failed} passed, {failed} failed")
-    return 1 if failed or not names else 0
+    print(f"{len(paths) - failed} passed, {failed} failed")
+    return 1 if failed or not paths else 0
 
 
 if __name__ == "__main__":

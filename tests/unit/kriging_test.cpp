@@ -9,8 +9,12 @@
 #include <algorithm>
 #include <cmath>
 #include <memory>
+#include <fstream>
 #include <random>
+#include <sstream>
 
+#include "kriging/dense.hpp"  // the condition estimate (internal)
+#include "sillstone/crossval.hpp"
 #include "sillstone/error.hpp"
 #include "sillstone/kriging.hpp"
 #include "test_support.hpp"
@@ -386,4 +390,195 @@ TEST_CASE("a kriged raster is identical for 1 and 2 threads", "[kriging]") {
   }
   CHECK(bands[0] == bands[2]);  // estimates, bit for bit
   CHECK(bands[1] == bands[3]);  // variances
+}
+
+// --- Reliability: condition estimate, warnings, output size ---------------------------------
+
+TEST_CASE("the condition estimate brackets the true reciprocal condition number", "[kriging]") {
+  // Reference: the exact 1-norm condition number from Eigen's dense inverse.
+  // Hager/Higham's estimate of ||A^-1||_1 is a lower bound, so the estimated
+  // rcond is never below the true one; it is rarely more than 3 times above it
+  // (Higham 1988, from memory); 10 leaves room.
+  std::mt19937_64 rng(20261202);
+  std::uniform_real_distribution<double> u(0.0, 100.0);
+  int compared = 0;
+  for (int trial = 0; trial < 20; ++trial) {
+    const std::size_t n = 3 + static_cast<std::size_t>(trial);
+    std::vector<Point> pts;
+    for (std::size_t i = 0; i < n; ++i) pts.push_back({u(rng), u(rng), 0});
+    // Exponential without nugget: fine; gaussian with a long range: nearly singular.
+    const CovarianceModel m = parse_model_spec(trial % 2 ? "1 gaussian(range=80)" : "1 exponential(range=40)");
+    Eigen::MatrixXd k(static_cast<Eigen::Index>(n), static_cast<Eigen::Index>(n));
+    std::vector<double> l(n * n), x(n), z(n);
+    for (std::size_t j = 0; j < n; ++j)
+      for (std::size_t i = 0; i < n; ++i) {
+        const double c = m.covariance(pts[i].x - pts[j].x, pts[i].y - pts[j].y);
+        k(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = c;
+        l[j * n + i] = c;
+      }
+    const double norm1 = detail::symmetric_norm1(l.data(), n, x.data());
+    CHECK(norm1 == Approx(k.cwiseAbs().colwise().sum().maxCoeff()).epsilon(1e-12));
+    if (!detail::cholesky(l.data(), n, 1e-14)) continue;  // numerically singular: nothing to compare
+    const double estimate = detail::cholesky_rcond(l.data(), n, norm1, x.data(), z.data());
+    const double exact = 1.0 / (norm1 * k.inverse().cwiseAbs().colwise().sum().maxCoeff());
+    if (exact < 1e-13) continue;  // the inverse itself is then inaccurate
+    INFO("n = " << n << ", exact rcond " << exact << ", estimate " << estimate);
+    CHECK(estimate >= exact * (1 - 1e-6));
+    CHECK(estimate <= 10 * exact);
+    ++compared;
+  }
+  CHECK(compared >= 10);  // the skips above must not empty the test
+}
+
+TEST_CASE("badly conditioned systems are nodata, never wrong numbers", "[kriging]") {
+  // A gaussian model without nugget on a dense 8 x 8 grid: every pivot can
+  // pass the pivot test while the system has lost its digits.
+  std::vector<Point> pts;
+  std::vector<double> z;
+  for (int i = 0; i < 8; ++i)
+    for (int j = 0; j < 8; ++j) {
+      pts.push_back({double(i), double(j), 0});
+      z.push_back(((i * 7 + j * 3) % 5) / 2.0);
+    }
+  const SampleSet s = make_set(pts, z);
+  const KrigingEngine engine(s, parse_model_spec("1 gaussian(range=40)"), {}, global());
+  auto ws = engine.make_workspace();
+  const NodeEstimate e = engine.estimate({3.5, 3.5, 0}, *ws);
+  CHECK(e.status == NodeEstimate::Status::singular);
+  bool warned = false;
+  for (const auto& w : engine.warnings()) warned = warned || w.find("gaussian structure") != std::string::npos;
+  CHECK(warned);
+  // With a nugget the same data krige normally, and no warning is given.
+  const KrigingEngine fine(s, parse_model_spec("0.05 nugget + 1 gaussian(range=40)"), {}, global());
+  auto ws2 = fine.make_workspace();
+  CHECK(fine.estimate({3.5, 3.5, 0}, *ws2).ok());
+  for (const auto& w : fine.warnings()) CHECK(w.find("gaussian structure") == std::string::npos);
+}
+
+TEST_CASE("engine warnings: few samples, one line, equal values, near-duplicates", "[kriging]") {
+  const CovarianceModel m = parse_model_spec("1 spherical(range=50)");
+  auto has = [](const KrigingEngine& e, const std::string& text) {
+    for (const auto& w : e.warnings())
+      if (w.find(text) != std::string::npos) return true;
+    return false;
+  };
+  {
+    const KrigingEngine e(make_set({{0, 0, 0}, {10, 5, 0}, {20, 10, 0}, {30, 15, 0}}, {1, 2, 2, 3}), m, {}, global());
+    CHECK(has(e, "only 4 sample(s)"));
+    CHECK(has(e, "lie on one line"));
+    CHECK_FALSE(has(e, "values are equal"));
+  }
+  {
+    const KrigingEngine e(make_set({{0, 0, 0}, {10, 5, 0}, {3, 12, 0}}, {5, 5, 5}), m, {}, global());
+    CHECK(has(e, "all 3 values are equal (5)"));
+    CHECK_FALSE(has(e, "lie on one line"));
+  }
+  {
+    std::vector<Point> pts;
+    std::vector<double> z;
+    for (int i = 0; i < 12; ++i) {
+      pts.push_back({double(i * 7 % 30), double(i * 11 % 40), 0});
+      z.push_back(i);
+    }
+    pts.push_back({pts[4].x + 1e-7, pts[4].y, 0});  // 1e-7 apart: gamma = 1.5e-9 of the sill
+    z.push_back(100);
+    const KrigingEngine e(make_set(pts, z), m, {}, global());
+    CHECK(has(e, "1 pair(s) of samples are near-duplicates"));
+    CHECK(has(e, "line 6 and line 14"));
+    CHECK_FALSE(has(e, "only"));
+    // A nugget makes the pair ordinary: the model no longer correlates them perfectly.
+    const KrigingEngine n(make_set(pts, z), parse_model_spec("0.1 nugget + 1 spherical(range=50)"), {}, global());
+    CHECK_FALSE(has(n, "near-duplicates"));
+  }
+}
+
+TEST_CASE("a neighbourhood too small for the drift is refused", "[kriging]") {
+  std::vector<Point> pts = {{0, 0, 0}, {10, 5, 0}, {3, 12, 0}, {20, 2, 0}, {14, 18, 0}};
+  KrigingOptions o;
+  o.method = KrigingMethod::universal;
+  NeighbourhoodOptions nb;
+  nb.max_points = 3;
+  CHECK_THROWS_WITH(KrigingEngine(make_set(pts, {1, 2, 3, 4, 5}), parse_model_spec("1 spherical(range=50)"), o, nb),
+                    Catch::Contains("--max-points 3 is too few"));
+  nb.max_points = 4;
+  CHECK_NOTHROW(KrigingEngine(make_set(pts, {1, 2, 3, 4, 5}), parse_model_spec("1 spherical(range=50)"), o, nb));
+}
+
+TEST_CASE("output size: estimates and refusals before any work", "[kriging]") {
+  GridSpec g;
+  g.nx = 1000;
+  g.ny = 2000;
+  const OutputSize raster = output_size(g, 3, false);
+  CHECK(raster.disk == Approx(1000.0 * 2000 * 3 * 8));
+  CHECK(raster.memory < raster.disk);  // rasters are written a block of rows at a time
+  const OutputSize table = output_size(g, 5, true);
+  CHECK(table.disk > raster.disk);
+  test::ScratchDir dir;
+  CHECK_NOTHROW(check_output_size(g, 3, false, dir.path("out.tif")));
+  g.nx = 3'000'000'000LL;
+  g.ny = 1;
+  CHECK_THROWS_WITH(check_output_size(g, 2, false, dir.path("out.tif")),
+                    Catch::Contains("a raster has at most 2147483647 columns"));
+  g.nx = 1'000'000;
+  g.ny = 1'000'000;  // 1e12 nodes: terabytes
+  CHECK_THROWS_WITH(check_output_size(g, 2, false, dir.path("out.tif")), Catch::Contains("would need about"));
+}
+
+TEST_CASE("undefined figures are empty and counted, never silent", "[kriging]") {
+  const std::vector<Point> pts = {{0, 0, 0}, {10, 5, 0}, {3, 12, 0}, {20, 2, 0}, {14, 18, 0}, {7, 25, 0}};
+  auto has = [](const std::vector<std::string>& lines, const std::string& text) {
+    for (const auto& w : lines)
+      if (w.find(text) != std::string::npos) return true;
+    return false;
+  };
+  SECTION("cross-validation of constant values: the correlation is undefined") {
+    const CrossValidationResult cv = cross_validate(make_set(pts, {5, 5, 5, 5, 5, 5}),
+                                                    parse_model_spec("1 spherical(range=30)"), {}, global(), {});
+    CHECK(cv.summary.estimated == 6);
+    CHECK(std::isnan(cv.summary.correlation));
+    CHECK(has(cv.summary.counts.warnings, "correlation of observed and estimated values is undefined"));
+    CHECK(has(cv.summary.counts.warnings, "all 6 values are equal"));
+    CHECK_THAT(crossval_summary_text(cv), Catch::Contains("correlation observed-estimated                   -"));
+    CHECK_THAT(crossval_summary_json(cv), Catch::Contains("\"correlation\": null"));
+  }
+  SECTION("a block table with a power model: kriging_efficiency is empty on every row, counted") {
+    test::ScratchDir dir;
+    const KrigingEngine engine(make_set(pts, {1, 2, 3, 2.5, 1.5, 3.5}), parse_model_spec("1 power(exponent=1.5)"),
+                               {}, global());
+    GridSpec g;
+    g.xmin = 0;
+    g.ymax = 30;
+    g.dx = g.dy = 10;
+    g.nx = 2;
+    g.ny = 3;
+    TableTarget t;
+    t.path = dir.path("blocks.csv");
+    const KrigingSummary s = krige_table(engine, g, t);
+    CHECK(s.estimated == 6);
+    CHECK(has(s.warnings, "6 estimated row(s) with an empty kriging_efficiency: the model has no sill"));
+    std::ifstream f(t.path);
+    std::string header, row;
+    std::getline(f, header);
+    CHECK(header == "x,y,z,estimate,variance,neighbours,slope_of_regression,kriging_efficiency");
+    int rows = 0;
+    while (std::getline(f, row)) {
+      ++rows;
+      CHECK(row.back() == ',');  // the last cell, kriging_efficiency, is empty
+    }
+    CHECK(rows == 6);
+  }
+  SECTION("crossval counts unestimated samples by cause, in samples not nodes") {
+    const CrossValidationResult cv = cross_validate(
+        make_set(pts, {1, 2, 3, 2.5, 1.5, 3.5}), parse_model_spec("1 spherical(range=30)"), {},
+        [] {
+          NeighbourhoodOptions n;
+          n.radius = 1;  // no neighbour within reach
+          n.min_points = 1;
+          return n;
+        }(),
+        {});
+    CHECK(cv.summary.estimated == 0);
+    CHECK(has(cv.summary.counts.warnings, "6 sample(s) with fewer samples than --min-points in the search: left unestimated"));
+    CHECK(std::isnan(cv.summary.rmse));
+  }
 }

@@ -208,3 +208,13 @@ TEST_CASE("option checks say what is wrong", "[samples]") {
   CHECK_FALSE(o.is_valid(&why));
   CHECK_THAT(why, Catch::Contains("--x and --y"));
 }
+
+TEST_CASE("require_variation refuses a column whose values are all equal", "[samples]") {
+  ScratchDir dir;
+  const SampleSet same = load_samples(csv_options(dir.write("c.csv", "x,y,v\n0,0,2\n1,0,NA\n0,1,2\n1,1,2\n")));
+  CHECK_THROWS_WITH(require_variation(same, 0, "fit"),
+                    "fit: " + dir.path("c.csv") + ", column 'v': all 3 values are equal (2): with zero "
+                    "variance there is no spatial variation to fit a model to");
+  const SampleSet varied = load_samples(csv_options(dir.write("d.csv", "x,y,v\n0,0,2\n1,0,2\n0,1,2.0000001\n")));
+  CHECK_NOTHROW(require_variation(varied, 0, "fit"));
+}

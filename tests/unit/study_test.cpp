@@ -103,3 +103,22 @@ TEST_CASE("study file errors name the line and the key", "[study]") {
              Catch::Contains("takes one of spec, fit or auto"));
   CHECK_THAT(error_of(dir.path("missing.toml")), Catch::Contains("no such file"));
 }
+
+TEST_CASE("a study is read from its text as from its file", "[study]") {
+  test::ScratchDir dir;
+  const std::string text =
+      "[samples]\npath = \"data/s.csv\"\nvalue = \"v\"\n[grid]\ncell = [5, 10]\n[kriging]\nthreads = 2\n";
+  const Study from_file = read_study(dir.write("site.toml", text));
+  const Study from_text = parse_study(text, dir.path("site.toml"));
+  CHECK(from_text.samples.path == from_file.samples.path);
+  CHECK(from_text.grid.cell == std::vector<double>{5, 10});
+  CHECK(from_text.kriging.threads == 2);
+  CHECK(study_settings_json(from_text) == study_settings_json(from_file));
+  // Errors name the given path and the line, as for a file.
+  try {
+    parse_study(text + "[grid]\n", "virtual.toml");
+    FAIL("a repeated section was accepted");
+  } catch (const InputError& e) {
+    CHECK_THAT(e.what(), Catch::StartsWith("study: virtual.toml, line 8: not valid TOML"));
+  }
+}
