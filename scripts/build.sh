@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # Configures and builds sillstone in ./build (or $SILLSTONE_BUILD_DIR).
 # Builds are serialised with a lock so that two never run at once on this
-# small machine.
+# small machine. Arguments are passed to cmake on the first configure;
+# $SILLSTONE_TARGETS (space-separated) limits the build to those targets.
 set -euo pipefail
 cd "$(dirname "$0")/.."
 build="${SILLSTONE_BUILD_DIR:-build}"
@@ -12,5 +13,7 @@ lock="${TMPDIR:-/tmp}/sillstone-build.lock"
   if [ ! -f "$build/CMakeCache.txt" ]; then
     cmake -S . -B "$build" -DCMAKE_BUILD_TYPE=RelWithDebInfo "$@"
   fi
-  cmake --build "$build" --parallel "$jobs"
+  targets=()
+  for t in ${SILLSTONE_TARGETS:-}; do targets+=(--target "$t"); done
+  cmake --build "$build" --parallel "$jobs" "${targets[@]}"
 ) 9>"$lock"

@@ -22,8 +22,11 @@ std::string number(double v) {
 // Number of whole cells covering [lo, hi]; a remainder under 1e-9 of a cell
 // counts as none (extents typed in decimals are rarely exact multiples).
 std::int64_t cells_across(double lo, double hi, double cell) {
-  const double n = (hi - lo) / cell;
-  return static_cast<std::int64_t>(std::ceil(n - 1e-9));
+  const double n = std::ceil((hi - lo) / cell - 1e-9);
+  // A count beyond 2^62 (or infinite: a tiny cell over a huge extent) would
+  // overflow the conversion; any such grid is refused by the node limit.
+  constexpr double kHuge = 4.6e18;
+  return n < kHuge ? static_cast<std::int64_t>(n) : static_cast<std::int64_t>(kHuge);
 }
 
 }  // namespace

@@ -41,7 +41,7 @@ class JsonModelReader {
     Json doc;
     try {
       doc = Json::parse(text);
-    } catch (const Json::parse_error& e) {
+    } catch (const Json::exception& e) {  // bad syntax, or a number beyond double range
       const std::string what =
           e.what();  // "[json.exception.parse_error.101] parse error at line ..."
       fail("", "not valid JSON: " + what.substr(what.find(']') + 2));
@@ -158,7 +158,13 @@ Json number(double x) {
 }  // namespace
 
 ModelFile model_from_json(const std::string& text, const std::string& source_name) {
-  return JsonModelReader(source_name).read(text);
+  try {
+    return JsonModelReader(source_name).read(text);
+  } catch (const Json::exception& e) {  // a JSON fault the reader's own checks did not name
+    const std::string what = e.what();
+    const auto at = what.find("] ");
+    throw InputError("model", source_name + ": " + (at == std::string::npos ? what : what.substr(at + 2)));
+  }
 }
 
 std::string model_to_json(const ModelFile& file) {

@@ -114,6 +114,7 @@ std::optional<Fault> check_model(const std::vector<Structure>& structures, std::
   *index = structures.size();
   if (structures.empty()) return fault("", "a model needs at least one structure");
   bool nugget_seen = false, some_sill = false;
+  double total = 0;
   for (std::size_t i = 0; i < structures.size(); ++i) {
     *index = i;
     if (auto f = check_structure(structures[i])) return f;
@@ -122,9 +123,12 @@ std::optional<Fault> check_model(const std::vector<Structure>& structures, std::
       nugget_seen = true;
     }
     some_sill = some_sill || structures[i].sill > 0;
+    total += structures[i].sill;
   }
   *index = structures.size();
   if (!some_sill) return fault("", "the sills add up to 0");
+  // A total beyond double range would make covariances inf - inf = NaN.
+  if (!std::isfinite(total)) return fault("", "the sills add up to more than a double can hold");
   return std::nullopt;
 }
 

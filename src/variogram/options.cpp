@@ -13,7 +13,8 @@ constexpr int kMaxSurfaceHalf = 250;  // at most 501 x 501 surface cells
 
 // N when W and D are both given: D / W, allowing for rounding in D / W.
 int lags_from(double lag, double max_distance) {
-  return static_cast<int>(std::floor(max_distance / lag + 1e-9));
+  const double n = std::floor(max_distance / lag + 1e-9);
+  return n > kMaxLags ? kMaxLags + 1 : static_cast<int>(n);  // no overflowing conversion
 }
 
 std::string number(double x) {

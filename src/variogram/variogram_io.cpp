@@ -166,15 +166,25 @@ EmpiricalVariogram read_csv(const std::string& path) {
 
 // --- Reading JSON ------------------------------------------------------------
 
+EmpiricalVariogram read_json_document(const std::string& path, const json& doc);
+
+// Any JSON fault -- bad syntax, a number beyond double range, a value of the
+// wrong type -- is the input's fault: an InputError naming the file.
 EmpiricalVariogram read_json(const std::string& path) {
   std::ifstream in(path, std::ios::binary);
   if (!in) throw InputError(kComponent, path + ": cannot be opened");
-  json doc;
   try {
-    doc = json::parse(in);
-  } catch (const json::parse_error& e) {
-    throw InputError(kComponent, path + ": not valid JSON (" + std::string(e.what()) + ")");
+    const json doc = json::parse(in);
+    return read_json_document(path, doc);
+  } catch (const json::exception& e) {
+    const std::string what = e.what();  // "[json.exception.type_error.302] type must be ..."
+    const auto at = what.find("] ");
+    throw InputError(kComponent, path + ": not a valid variogram document (" +
+                                     (at == std::string::npos ? what : what.substr(at + 2)) + ")");
   }
+}
+
+EmpiricalVariogram read_json_document(const std::string& path, const json& doc) {
   EmpiricalVariogram v;
   auto fail = [&path](const std::string& row, const std::string& key, const std::string& what) {
     return InputError(kComponent, InputLocation{path, row, key}, what);
@@ -182,6 +192,7 @@ EmpiricalVariogram read_json(const std::string& path) {
   if (!doc.is_object() || !doc.contains("rows") || !doc["rows"].is_array())
     throw fail("", "rows", "a variogram document needs a \"rows\" array");
   const json settings = doc.value("settings", json::object());
+  if (!settings.is_object()) throw fail("", "settings", "must be an object");
   try {
     v.options.statistic = parse_name<VariogramStatistic>(
         settings.value("statistic", std::string("semivariance")), "statistic");
@@ -236,6 +247,7 @@ EmpiricalVariogram read_json(const std::string& path) {
   setting("vertical_bandwidth", &v.options.vertical_bandwidth);
   setting("log_offset", &v.options.log_offset);
   v.dimension = doc.value("dimension", v.dimension);
+  if (v.dimension != 2 && v.dimension != 3) throw fail("", "dimension", "must be 2 or 3");
   v.summary.samples = doc.value("samples", std::size_t{0});
   if (doc.contains("mean") && doc["mean"].is_number()) v.summary.mean = doc["mean"].get<double>();
   if (doc.contains("variance") && doc["variance"].is_number())
@@ -246,6 +258,8 @@ EmpiricalVariogram read_json(const std::string& path) {
   if (const auto ns = doc.find("normal_score_table"); ns != doc.end() && ns->is_object()) {
     v.normal_scores.values = ns->value("values", std::vector<double>{});
     v.normal_scores.scores = ns->value("scores", std::vector<double>{});
+    if (v.normal_scores.values.size() != v.normal_scores.scores.size())
+      throw fail("", "normal_score_table", "values and scores must have the same length");
   }
   return v;
 }
