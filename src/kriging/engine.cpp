@@ -600,20 +600,23 @@ void KrigingEngine::factorise(Workspace& ws) const {
       for (std::size_t i = j; i < n; ++i) ws.cond_l[j * n + i] = ws.L[j * ld + i];
     norm1 = detail::symmetric_norm1(ws.cond_l.data(), n, ws.cond_x.data());
   }
-  if (!detail::cholesky_ld(ws.L.data(), ld, n, ws.inv_diag.data(), ws.block_cov.data(), kPivotTol)) {
+  if (!detail::cholesky_ld(ws.L.data(), ld, n, ws.inv_diag.data(), ws.block_cov.data(),
+                           kPivotTol)) {
     ws.factor_status = NodeEstimate::Status::singular;
     return;
   }
   if (check_condition) {
     for (std::size_t j = 0; j < n; ++j)
       for (std::size_t i = j; i < n; ++i) ws.cond_l[j * n + i] = ws.L[j * ld + i];
-    if (detail::cholesky_rcond(ws.cond_l.data(), n, norm1, ws.cond_x.data(), ws.cond_z.data()) < kRcondTol) {
+    if (detail::cholesky_rcond(ws.cond_l.data(), n, norm1, ws.cond_x.data(), ws.cond_z.data()) <
+        kRcondTol) {
       ws.factor_status = NodeEstimate::Status::singular;
       return;
     }
   }
   const bool simple = p == 0;
-  for (std::size_t i = 0; i < n; ++i) ws.w[i] = simple ? values_[ws.nb[i]] - mean_ : values_[ws.nb[i]];
+  for (std::size_t i = 0; i < n; ++i)
+    ws.w[i] = simple ? values_[ws.nb[i]] - mean_ : values_[ws.nb[i]];
   detail::forward_solve(ws.L.data(), ld, n, ws.inv_diag.data(), ws.w.data());
   for (std::size_t i = 0; i < n && p > 0; ++i) {
     const std::uint32_t s = ws.nb[i];
@@ -636,7 +639,8 @@ void KrigingEngine::finish_factor(Workspace& ws) const {
   for (std::size_t c = 0; c < p; ++c)
     for (std::size_t r = c; r < p; ++r)
       ws.S[c * p + r] = detail::dot(ws.G.data() + r * ld, ws.G.data() + c * ld, n);
-  if (!detail::cholesky(ws.S.data(), p, 1e-10)) ws.factor_status = NodeEstimate::Status::drift_unresolved;
+  if (!detail::cholesky(ws.S.data(), p, 1e-10))
+    ws.factor_status = NodeEstimate::Status::drift_unresolved;
 }
 
 // Brings the factorisation from the set ws.factored_sorted to ws.nb (both in
@@ -647,8 +651,8 @@ void KrigingEngine::finish_factor(Workspace& ws) const {
 // new factorisation and evaluate n covariances per new sample instead of
 // n^2 / 2. Returns false (the caller then factorises afresh) when too much
 // changed, after update_budget() updates (so that rounding cannot
-// accumulate), or when
-// the last factorisation failed or an appended pivot fails the test.
+// accumulate), or when the last factorisation failed or an appended pivot
+// fails the test.
 bool KrigingEngine::update_factor(Workspace& ws) const {
   if (ws.factor_status != NodeEstimate::Status::ok) return false;
   ws.removed.clear();
@@ -709,8 +713,7 @@ void KrigingEngine::remove_from_factor(Workspace& ws, std::size_t j) const {
     std::copy(L + c * ld + j + 1, L + c * ld + n, L + c * ld + j);
   double* e = ws.extra.data();  // entries of the extra rows in column j
   e[0] = ws.w[j];
-  std::copy(ws.w.begin() + static_cast<std::ptrdiff_t>(j + 1), ws.w.begin() + static_cast<std::ptrdiff_t>(n),
-            ws.w.begin() + static_cast<std::ptrdiff_t>(j));
+  std::copy(ws.w.data() + j + 1, ws.w.data() + n, ws.w.data() + j);
   for (std::size_t c = 0; c < p; ++c) {
     double* g = ws.G.data() + c * ld;
     e[c + 1] = g[j];

@@ -318,8 +318,8 @@ KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
   // Two sets of buffers: while the threads krige one block, the previous one
   // is back-transformed, compressed and written on another thread (GDAL
   // compresses on the calling thread), so writing does not leave the
-  // kriging threads idle (with --threads 1 it is written in line). Memory stays bounded: two blocks, and GDAL's
-  // cache flushed at every tile row.
+  // kriging threads idle (with --threads 1 it is written in line). Memory
+  // stays bounded: two blocks, and GDAL's cache flushed at every tile row.
   struct Buffers {
     std::vector<NodeEstimate> block;
     std::vector<NodeOutput> values;

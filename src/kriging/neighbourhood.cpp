@@ -299,7 +299,8 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
       // The (k+1)-th is no closer than the closest unchosen candidate, nor
       // than reach - s for the samples outside the cache; a relative margin
       // covers rounding.
-      const double next = std::min(std::sqrt(next2), m < n ? ws.reach - s : std::numeric_limits<double>::infinity());
+      const double outside = m < n ? ws.reach - s : std::numeric_limits<double>::infinity();
+      const double next = std::min(std::sqrt(next2), outside);
       const double gap = (next - ws.last_kth) - 1e-9 * (next + ws.last_kth);
       if (gap > 0 && std::isfinite(gap)) {
         ws.gap = gap;

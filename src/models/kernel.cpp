@@ -111,7 +111,8 @@ void CovarianceKernel::evaluate(std::size_t count, const double* dx, const doubl
 #pragma omp simd
           for (std::size_t i = 0; i < m; ++i) {
             const double r = std::min(h[i] * ir, 1.0);
-            o[i] += sill * (1 - r * r * (7 + r * (-35.0 / 4 + r * r * (7.0 / 2 - 3.0 / 4 * r * r))));
+            o[i] +=
+                sill * (1 - r * r * (7 + r * (-35.0 / 4 + r * r * (7.0 / 2 - 3.0 / 4 * r * r))));
           }
           break;
         case Family::exponential:

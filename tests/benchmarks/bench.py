@@ -6,7 +6,8 @@ timed unit tests.
 
 Every benchmark makes its data with numpy at a fixed seed, runs
 `sillstone krige` / `sillstone crossval` (wall time and peak resident memory
-of the process, from GNU time), and runs its peers in the same run:
+of the process, and its CPU time, from GNU time), and runs its peers in the
+same run:
 
   numpy   the vectorised numpy/scipy local ordinary kriging of
           baseline_numpy.py (cKDTree neighbours, batched numpy.linalg.solve),
@@ -100,7 +101,7 @@ def run(args, env=None):
     rss = tempfile.NamedTemporaryFile(suffix=".rss", delete=False)
     rss.close()
     t0 = time.perf_counter()
-    p = subprocess.Popen(["/usr/bin/time", "-f", "%M", "-o", rss.name] + args,
+    p = subprocess.Popen(["/usr/bin/time", "-f", "%M %U %S", "-o", rss.name] + args,
                          stdout=out, stderr=err, env=env)
     p.wait()
     wall = time.perf_counter() - t0
@@ -108,10 +109,11 @@ def run(args, env=None):
     err.seek(0)
     text = out.read().decode()
     with open(rss.name) as f:
-        peak_kib = float(f.read().strip().splitlines()[-1])
+        peak_kib, user, system = (float(v) for v in f.read().strip().splitlines()[-1].split())
     os.remove(rss.name)
     if p.returncode != 0:
         raise RuntimeError(f"{args[0]} failed ({p.returncode}): {err.read().decode()[-2000:]}")
+    run.cpu_s = user + system  # CPU seconds of the last run (user + system)
     return wall, peak_kib / 1024.0, text
 
 
@@ -141,7 +143,7 @@ def _ours_krige(exe, samples, out, nx, ny, k, threads=THREADS):
             "--cell", f"{SIDE / nx!r},{SIDE / ny!r}",
             "--threads", str(threads), "-o", out, "--overwrite", "--quiet", "--json"]
     wall, rss, text = run(args)
-    return {"wall_s": wall, "peak_mib": rss, "summary": json.loads(text)}
+    return {"wall_s": wall, "peak_mib": rss, "cpu_s": run.cpu_s, "summary": json.loads(text)}
 
 
 def read_band(path, band, flat_nodes, nx):
@@ -307,7 +309,10 @@ class Bench:
                 "--model", MODEL.spec(), "--max-points", "24", "--threads", str(THREADS),
                 "-o", out, "--overwrite", "--quiet"]
         def timed(a):
-            return lambda: dict(zip(("wall_s", "peak_mib"), run(a)[:2]))
+            def once():
+                wall, rss, _ = run(a)
+                return {"wall_s": wall, "peak_mib": rss, "cpu_s": run.cpu_s}
+            return once
         two = best_of(timed(args))
         wall, rss = two["wall_s"], two["peak_mib"]
         one = best_of(timed(args[:-6] + ["--threads", "1", "-o", out + "1", "--overwrite", "--quiet"]))
@@ -316,7 +321,7 @@ class Bench:
         same = open(out).read() == open(out + "1").read()
         peer = numpy_peer(npz_path, "-", 24, os.path.join(self.tmp, "cv_np.npz"), loo=True)
         r = {"samples": n, "neighbours": 24,
-             "ours": {"wall_s": wall, "peak_mib": rss},
+             "ours": {"wall_s": wall, "peak_mib": rss, "cpu_s": two["cpu_s"]},
              "ours_1_thread": {"wall_s": one[0], "peak_mib": one[1]},
              "thread_scaling": one[0] / wall, "identical_1_and_2_threads": same,
              "numpy": {"compute_s": peer["setup_s"] + peer["per_node_s"] * n,
@@ -383,6 +388,7 @@ class Bench:
                 "us_per_node_after_startup":
                     round((r["ours"]["wall_s"] - r["startup_s"]) / r["nodes"] * 1e6, 3),
                 "peak_mib": round(r["ours"]["peak_mib"], 1),
+                "cpu_s": round(r["ours"]["cpu_s"], 3),
                 "numpy_us_per_node": round(r["numpy"]["per_node_us"], 1),
                 "ratio_numpy_over_ours": round(r["ratio_numpy_over_ours"], 1),
                 "estimates_within_1e-8": r["check"]["estimates_within_1e-8"]}
@@ -451,12 +457,13 @@ def render_scaling(curves):
         pts = curves.get(key, [])
         if not pts:
             continue
-        out += ["", f"| {title} | grid | wall (s) | start-up (s) | us per node | "
+        out += ["", f"| {title} | grid | wall (s) | CPU (s) | start-up (s) | us per node | "
                     "us per node after start-up | peak RSS (MiB) | numpy us per node | "
                     "numpy / ours | matches numpy |",
-                "|---|---|---|---|---|---|---|---|---|---|"]
+                "|---|---|---|---|---|---|---|---|---|---|---|"]
         for p in pts:
-            out.append(f"| {p[key]} | {p['grid']} | {p['wall_s']:.2f} | {p['startup_s']:.2f} | "
+            out.append(f"| {p[key]} | {p['grid']} | {p['wall_s']:.2f} | {p['cpu_s']:.2f} | "
+                       f"{p['startup_s']:.2f} | "
                        f"{p['us_per_node']:.2f} | {p['us_per_node_after_startup']:.2f} | "
                        f"{p['peak_mib']:.0f} | {p['numpy_us_per_node']:.1f} | "
                        f"{p['ratio_numpy_over_ours']:.0f}x | "
@@ -489,10 +496,10 @@ def render_threads(res):
 
 def render_table(res):
     """The markdown table of docs/performance.md."""
-    lines = ["| benchmark | data | sillstone wall (s) | peak RSS (MiB) | numpy baseline (s) | "
-             "numpy / ours | gdal_grid invdistnn (s) | ours / gdal_grid | 1->2 threads | "
-             "matches numpy (1e-8) |",
-             "|---|---|---|---|---|---|---|---|---|---|"]
+    lines = ["| benchmark | data | sillstone wall (s) | CPU (s) | peak RSS (MiB) | "
+             "numpy baseline (s) | numpy / ours | gdal_grid invdistnn (s) | ours / gdal_grid | "
+             "1->2 threads | matches numpy (1e-8) |",
+             "|---|---|---|---|---|---|---|---|---|---|---|"]
     for name in ("B1", "B1s", "B3", "B4"):
         if name not in res:
             continue
@@ -507,7 +514,8 @@ def render_table(res):
         scaling = f"{r['thread_scaling']:.2f}x" if "thread_scaling" in r else "-"
         match = "yes" if r["check"]["estimates_within_1e-8"] else "NO"
         lines.append(
-            f"| {name} | {data} | {r['ours']['wall_s']:.2f} | {r['ours']['peak_mib']:.0f} | "
+            f"| {name} | {data} | {r['ours']['wall_s']:.2f} | {r['ours'].get('cpu_s', float('nan')):.2f} | "
+            f"{r['ours']['peak_mib']:.0f} | "
             f"{npy_txt} | {r['ratio_numpy_over_ours']:.0f}x | {gdal_txt} | {gdal_ratio} | "
             f"{scaling} | {match} |")
     return "\n".join(lines)

@@ -16,7 +16,8 @@ TEST_CASE("the covariance kernel equals CovarianceModel::covariance to rounding"
   const char* specs[] = {
       "0.2 nugget + 1.1 spherical(range=450) + 0.4 exponential(range=2000, azimuth=30, ratio=0.5)",
       "1 gaussian(range=300) + 0.5 cubic(range=800, azimuth=45, ratio=0.3, dip=20, plunge=10, "
-      "ratio2=0.5) + 0.25 spherical(range=90, azimuth=45, ratio=0.3, dip=20, plunge=10, ratio2=0.5)",
+      "ratio2=0.5) + 0.25 spherical(range=90, azimuth=45, ratio=0.3, dip=20, plunge=10, "
+      "ratio2=0.5)",
       "0.3 nugget + 1 matern(range=500, nu=1.5) + 2 cubic(range=250)",
       "0.1 nugget + 0.9 spherical(range=1500)",
   };
@@ -47,7 +48,8 @@ TEST_CASE("the covariance kernel equals CovarianceModel::covariance to rounding"
   }
 }
 
-TEST_CASE("the covariance kernel gives the total sill at lag 0 and refuses power models", "[kernel]") {
+TEST_CASE("the covariance kernel gives the total sill at lag 0 and refuses power models",
+          "[kernel]") {
   const CovarianceModel model = parse_model_spec("0.2 nugget + 1.1 spherical(range=450)");
   CHECK(detail::CovarianceKernel(model)(0, 0, 0) == model.total_sill());
   CHECK_THROWS_AS(detail::CovarianceKernel(parse_model_spec("1 power(exponent=1.5)")),
