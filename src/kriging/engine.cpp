@@ -512,9 +512,16 @@ NodeEstimate KrigingEngine::estimate(const Point& target, Workspace& ws, std::in
     ws.cond_x.resize(n);
     ws.cond_z.resize(n);
     const double norm1 = detail::symmetric_norm1(ws.L.data(), n, ws.cond_x.data());
+    // With a nugget c0, K = K_structures + c0 I with K_structures positive
+    // semi-definite, so its smallest eigenvalue is at least c0 and
+    // cond_1(K) <= n cond_2(K) <= n ||K||_1 / c0. When that bound is a
+    // thousand times below the limit, the estimate (about as costly as the
+    // factorisation) is not needed.
+    const bool bounded = model_.nugget() > 0 &&
+                         static_cast<double>(n) * norm1 < 1e-3 / kRcondTol * model_.nugget();
     if (!detail::cholesky(ws.L.data(), n, kPivotTol) ||
-        detail::cholesky_rcond(ws.L.data(), n, norm1, ws.cond_x.data(), ws.cond_z.data()) <
-            kRcondTol) {
+        (!bounded && detail::cholesky_rcond(ws.L.data(), n, norm1, ws.cond_x.data(),
+                                            ws.cond_z.data()) < kRcondTol)) {
       ws.factor_status = NodeEstimate::Status::singular;
     } else if (p > 0) {
       ws.F.resize(n * p);
