@@ -38,6 +38,7 @@ constexpr std::size_t kFewSamples = 10;
 // "near-duplicates": kriging systems holding both lose about -log10 of this
 // many digits, and cross-validation estimates each from the other.
 constexpr double kNearDuplicate = 1e-6;
+constexpr int kMaxThreads = 1024;
 
 std::string fmt(double v) {
   std::ostringstream s;
@@ -158,7 +159,10 @@ bool KrigingOptions::is_valid(int dimension, const CovarianceModel& model, std::
     if (transform == Transform::log && !(threshold > 0))
       return fail("--threshold must be positive with --transform log");
   }
-  if (threads < 0) return fail("--threads must be >= 0 (0: every core)");
+  // Each thread holds its own workspace: a typo such as 100000 would try to
+  // start that many threads before any work.
+  if (threads < 0 || threads > kMaxThreads)
+    return fail("--threads must be between 0 (every core) and " + std::to_string(kMaxThreads));
   return true;
 }
 
