@@ -40,6 +40,7 @@ constexpr std::size_t kFewSamples = 10;
 // "near-duplicates": kriging systems holding both lose about -log10 of this
 // many digits, and cross-validation estimates each from the other.
 constexpr double kNearDuplicate = 1e-6;
+constexpr int kMaxThreads = 1024;
 
 std::string fmt(double v) {
   std::ostringstream s;
@@ -160,7 +161,10 @@ bool KrigingOptions::is_valid(int dimension, const CovarianceModel& model, std::
     if (transform == Transform::log && !(threshold > 0))
       return fail("--threshold must be positive with --transform log");
   }
-  if (threads < 0) return fail("--threads must be >= 0 (0: every core)");
+  // Each thread holds its own workspace: a typo such as 100000 would try to
+  // start that many threads before any work.
+  if (threads < 0 || threads > kMaxThreads)
+    return fail("--threads must be between 0 (every core) and " + std::to_string(kMaxThreads));
   return true;
 }
 
@@ -587,10 +591,14 @@ void KrigingEngine::factorise(Workspace& ws) const {
   }
   // Smooth models without a nugget (gaussian) on dense samples give systems
   // that pass the pivot test yet are badly conditioned; the reciprocal
-  // condition number is estimated for them. A nugget bounds cond(K) by about
-  // n * sill / nugget, so with one the estimate is skipped (it costs about
-  // as much as the factorisation).
-  const bool check_condition = model_.nugget() < 1e-9 * model_.total_sill();
+  // condition number is estimated for them. With a nugget c0, K is a
+  // positive semi-definite matrix plus c0 I, so its smallest eigenvalue is at
+  // least c0 and cond_1(K) <= n ||K||_1 / c0 <= n^2 sill / c0. When that bound
+  // is a thousand times below the limit the estimate (about as costly as the
+  // factorisation) is skipped.
+  const double nn = static_cast<double>(n) * static_cast<double>(n);
+  const bool check_condition =
+      !(model_.nugget() > 0 && nn * model_.total_sill() < 1e-3 / kRcondTol * model_.nugget());
   double norm1 = 0;
   if (check_condition) {
     ws.cond_l.resize(n * n);

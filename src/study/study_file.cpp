@@ -7,6 +7,7 @@
 #include <filesystem>
 #include <fstream>
 #include <functional>
+#include <limits>
 #include <map>
 #include <sstream>
 
@@ -42,9 +43,20 @@ class Reader {
     }
     fail(n, key, "expected a number");
   }
+  // A whole number within int's range: a TOML integer, or a float with no
+  // fraction (10.0). toml++'s own value<int64_t>() converts any float, and
+  // converting one beyond int64's range is undefined behaviour (found by
+  // fuzz_study), so the node's type and range are checked here first.
   int integer(const toml::node& n, const std::string& key) const {
-    if (auto v = n.value<int64_t>()) return static_cast<int>(*v);
-    fail(n, key, "expected a whole number");
+    constexpr double lo = std::numeric_limits<int>::min(), hi = std::numeric_limits<int>::max();
+    double v = std::nan("");
+    if (const auto* i = n.as_integer()) v = static_cast<double>(i->get());
+    else if (const auto* f = n.as_floating_point()) v = f->get();
+    else fail(n, key, "expected a whole number");
+    if (!(v == std::trunc(v))) fail(n, key, "expected a whole number");
+    if (v < lo || v > hi) fail(n, key, "expected a whole number between " + std::to_string(int(lo)) +
+                                           " and " + std::to_string(int(hi)));
+    return static_cast<int>(v);
   }
   bool boolean(const toml::node& n, const std::string& key) const {
     if (auto v = n.value<bool>()) return *v;

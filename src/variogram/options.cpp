@@ -10,6 +10,7 @@ namespace {
 
 constexpr int kMaxLags = 10000;
 constexpr int kMaxSurfaceHalf = 250;  // at most 501 x 501 surface cells
+constexpr int kMaxThreads = 1024;
 
 // N when W and D are both given: D / W, allowing for rounding in D / W.
 int lags_from(double lag, double max_distance) {
@@ -96,7 +97,10 @@ bool VariogramOptions::is_valid(std::string* why) const {
                   " cells a side; use a larger "
                   "--surface-cell");
   }
-  if (threads < 0) return fail("--threads must be 0 (every core) or more");
+  // Each thread holds its own workspace: a typo such as 100000 would try to
+  // start that many threads before any work.
+  if (threads < 0 || threads > kMaxThreads)
+    return fail("--threads must be between 0 (every core) and " + std::to_string(kMaxThreads));
   return true;
 }
 

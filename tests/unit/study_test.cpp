@@ -122,3 +122,27 @@ TEST_CASE("a study is read from its text as from its file", "[study]") {
     CHECK_THAT(e.what(), Catch::StartsWith("study: virtual.toml, line 8: not valid TOML"));
   }
 }
+
+TEST_CASE("whole numbers: floats without fraction pass, others and huge ones are refused", "[study]") {
+  // Found by fuzz_study: a float beyond int64's range given for a whole
+  // number was converted by the TOML library, which is undefined behaviour.
+  const std::string head = "[samples]\npath = \"s.csv\"\nvalue = \"v\"\n[grid]\ncell = 5\n";
+  CHECK(parse_study(head + "[kriging]\nthreads = 2.0\n", "a.toml").kriging.threads == 2);
+  CHECK(parse_study(head + "[kriging]\ndiscretise = [3, 3]\n", "a.toml").kriging.discretise ==
+        std::vector<int>{3, 3});
+  auto error_of_text = [&](const std::string& text) -> std::string {
+    try {
+      parse_study(head + text, "a.toml");
+    } catch (const InputError& e) {
+      return e.what();
+    }
+    return "(no error)";
+  };
+  CHECK_THAT(error_of_text("[kriging]\ndiscretise = [3, 3.5e122]\n"),
+             Catch::Contains("line 7, key 'kriging.discretise': expected a whole number between"));
+  CHECK_THAT(error_of_text("[kriging]\nthreads = 2.5\n"),
+             Catch::Contains("key 'kriging.threads': expected a whole number"));
+  CHECK_THAT(error_of_text("[neighbourhood]\nmax_points = 99999999999\n"),
+             Catch::Contains("key 'neighbourhood.max_points': expected a whole number between"));
+  CHECK_THAT(error_of_text("[variogram]\nlags = nan\n"), Catch::Contains("expected a whole number"));
+}
