@@ -1,28 +1,34 @@
 // The empirical variogram: pair enumeration and the statistics of each class.
 //
 // Order of work: pick the value column and transform it; centre coordinates
-// (and values) so that UTM-scale numbers keep their precision; put the
-// samples in Z-order for memory locality and index them in a k-d tree; visit every pair (i, j > i)
-// within the largest distance needed, in fixed blocks of samples that OpenMP threads take in turn;
-// each block sums into its own accumulators, which are added to the totals in block order (an
-// `ordered` region), so that every sum is formed in the same order whatever the thread count.
+// (and values) so that UTM-scale numbers keep their precision; sort the
+// samples into cells (pair_cells.hpp) so that the partners of each sample lie
+// in a few contiguous runs of memory; for each run, compute the distances and
+// squared differences in one vectorised loop, then add each pair to its class.
+// OpenMP threads take fixed chunks of samples; each chunk sums into its own
+// accumulators, which are added to the totals in chunk order, so that every
+// sum is formed in the same order whatever the thread count.
 #include <omp.h>
 
 #include <algorithm>
 #include <chrono>
 #include <cmath>
+#include <cstdint>
+#include <limits>
 #include <sstream>
 
-#include "core/point_index.hpp"
 #include "sillstone/error.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/variogram.hpp"
+#include "variogram/pair_cells.hpp"
 
 namespace sillstone {
 namespace {
 
 constexpr const char* kComponent = "variogram";
-constexpr std::size_t kBlock = 256;      // samples per unit of parallel work
+constexpr std::size_t kBlock = 256;      // fewest samples in a unit of parallel work
+constexpr std::size_t kMaxChunks = 256;  // most units of parallel work
+constexpr std::size_t kChunkMemory = std::size_t{256} << 20;  // bytes of their sums, at most
 constexpr std::uint64_t kFewPairs = 30;  // common practice (Journel & Huijbregts 1978, from memory)
 constexpr double kAngleSlack = 1e-9;     // degrees: an angle this close to a tolerance is on it
 constexpr double kDegree = 0.017453292519943295;  // pi / 180
@@ -148,16 +154,6 @@ std::vector<Direction> make_directions(const VariogramOptions& o, int dimension)
   return out;
 }
 
-// The class of distance d (0 < d <= edges.back()): edges[k] < d <= edges[k+1].
-// The estimate d / W is corrected against the edges themselves.
-std::size_t class_of(double d, const std::vector<double>& edges, double inverse_width) {
-  const std::size_t last = edges.size() - 2;
-  std::size_t k = std::min(last, static_cast<std::size_t>(d * inverse_width));
-  while (k > 0 && d <= edges[k]) --k;
-  while (k < last && d > edges[k + 1]) ++k;
-  return k;
-}
-
 // The statistic of one class from its sums.
 double class_value(const Sums& s, const VariogramOptions& o, bool oriented) {
   if (s.n == 0) return std::nan("");
@@ -187,34 +183,109 @@ double class_value(const Sums& s, const VariogramOptions& o, bool oriented) {
   return std::nan("");
 }
 
-// The samples in Z-order (Morton order) of their positions on a 2^21 grid, so
-// that samples near in space are near in memory and the pair loop reads
-// memory mostly in order. Ties keep their input order.
-std::vector<std::size_t> spatial_order(const std::vector<Point>& points, int dimension) {
-  Point lo = points.front(), hi = lo;
-  for (const auto& p : points) {
-    lo = {std::min(lo.x, p.x), std::min(lo.y, p.y), std::min(lo.z, p.z)};
-    hi = {std::max(hi.x, p.x), std::max(hi.y, p.y), std::max(hi.z, p.z)};
+// The distances from (xi, yi, zi) to m samples, the squared differences of
+// their values from vi, and each pair's class: k when edges[k] < d <=
+// edges[k + 1]; last + 1 when it is no pair (d = 0: coincident samples;
+// d > reach); kNearEdge when d / W lies within 1e-9 of a whole number, so that
+// only the edges themselves can tell (class_of() settles those, a handful in
+// a billion). The part of the pair loop that vectorises.
+constexpr std::int32_t kNearEdge = -1;
+
+// GCC builds a copy for AVX2 processors, picked at load time (no FMA: the
+// distances are rounded the same way on every processor).
+#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__)
+__attribute__((target_clones("avx2", "default")))
+#endif
+void pair_distances(const double* __restrict x, const double* __restrict y,
+                    const double* __restrict z, const double* __restrict v, std::size_t m,
+                    double xi, double yi, double zi, double vi, double reach, double inverse_width,
+                    std::int32_t last, double* __restrict distance, double* __restrict squared,
+                    std::int32_t* __restrict klass) {
+  const double top = last + 1;
+#pragma omp simd
+  for (std::size_t t = 0; t < m; ++t) {
+    const double dx = x[t] - xi, dy = y[t] - yi, dz = z[t] - zi, dv = v[t] - vi;
+    const double d = std::sqrt(dx * dx + dy * dy + dz * dz);
+    distance[t] = d;
+    squared[t] = dv * dv;
+    double q = d * inverse_width;
+    q = q < top ? q : top;
+    const std::int32_t k = static_cast<std::int32_t>(q);
+    const double r = q - k;
+    const bool near = r < 1e-9 || r > 1 - 1e-9;
+    const std::int32_t c = near ? kNearEdge : (k < last ? k : last);
+    klass[t] = d > 0 && d <= reach ? c : last + 1;
   }
-  const double span = std::max({hi.x - lo.x, hi.y - lo.y, hi.z - lo.z});
-  constexpr int kBits = 21;
-  const double scale = span > 0 ? ((1 << kBits) - 1) / span : 0;
-  std::vector<std::uint64_t> key(points.size(), 0);
-  for (std::size_t i = 0; i < points.size(); ++i) {
-    const double c[3] = {points[i].x - lo.x, points[i].y - lo.y, points[i].z - lo.z};
-    for (int d = 0; d < dimension; ++d) {
-      const auto q = static_cast<std::uint64_t>(c[d] * scale);
-      for (int b = 0; b < kBits; ++b) key[i] |= ((q >> b) & 1u) << (dimension * b + d);
-    }
-  }
-  std::vector<std::size_t> order(points.size());
-  for (std::size_t i = 0; i < order.size(); ++i) order[i] = i;
-  std::stable_sort(order.begin(), order.end(),
-                   [&key](std::size_t a, std::size_t b) { return key[a] < key[b]; });
-  return order;
 }
 
-// Per-block (and total) accumulators: one Sums per direction and class, and
+// The class k of distance d (0 < d <= edges.back()): edges[k] < d <= edges[k+1].
+std::int32_t class_of(double d, const std::vector<double>& edges) {
+  const auto above = std::lower_bound(edges.begin() + 1, edges.end(), d);  // first edge >= d
+  return static_cast<std::int32_t>(above - edges.begin()) - 1;
+}
+
+// Counts, distance sums and squared-difference sums by class for the common
+// case (one direction, Matheron, no surface), without branches. Pair t of a
+// run goes to copy t % 4 of the sums, so that successive pairs of one class
+// do not wait on each other; the copies are added in a fixed order. Bin
+// `classes` takes what is no pair and is dropped.
+class PlainSums {
+ public:
+  explicit PlainSums(std::size_t classes)
+      : classes_(classes),
+        bins_(classes + 1),
+        n_(kCopies * bins_),
+        distance_(kCopies * bins_),
+        squared_(kCopies * bins_) {}
+
+  void clear() {
+    std::fill(n_.begin(), n_.end(), 0);
+    std::fill(distance_.begin(), distance_.end(), 0.0);
+    std::fill(squared_.begin(), squared_.end(), 0.0);
+  }
+
+  // Adds the m pairs of one run, as pair_distances() left them.
+  void add(const double* __restrict distance, const double* __restrict squared,
+           const std::int32_t* __restrict klass, std::size_t m, const std::vector<double>& edges) {
+    std::uint64_t* __restrict n = n_.data();
+    double* __restrict sum_d = distance_.data();
+    double* __restrict sum_sq = squared_.data();
+    auto one = [&](std::size_t t, std::size_t copy) {
+      std::int32_t k = klass[t];
+      if (__builtin_expect(k == kNearEdge, 0)) k = class_of(distance[t], edges);
+      const std::size_t b = copy + static_cast<std::size_t>(k);
+      n[b] += 1;
+      sum_d[b] += distance[t];
+      sum_sq[b] += squared[t];
+    };
+    std::size_t t = 0;
+    for (; t + kCopies <= m; t += kCopies) {
+      one(t, 0);
+      one(t + 1, bins_);
+      one(t + 2, 2 * bins_);
+      one(t + 3, 3 * bins_);
+    }
+    for (; t < m; ++t) one(t, (t % kCopies) * bins_);
+  }
+
+  // Adds the sums of every class into `out` (one Sums per class).
+  void add_to(std::vector<Sums>& out) const {
+    for (std::size_t c = 0; c < kCopies; ++c)
+      for (std::size_t k = 0; k < classes_; ++k) {
+        out[k].n += n_[c * bins_ + k];
+        out[k].distance += distance_[c * bins_ + k];
+        out[k].squared += squared_[c * bins_ + k];
+      }
+  }
+
+ private:
+  static constexpr std::size_t kCopies = 4;
+  std::size_t classes_, bins_;
+  std::vector<std::uint64_t> n_;
+  std::vector<double> distance_, squared_;
+};
+
+// Per-chunk (and total) accumulators: one Sums per direction and class, and
 // the surface cells.
 struct Accumulators {
   std::vector<Sums> classes;
@@ -329,17 +400,6 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
       z.push_back(z_all[i]);
     }
   const std::size_t n = points.size();
-  if (n >= 2) {
-    const std::vector<std::size_t> order = spatial_order(points, dim);
-    std::vector<Point> sorted_points(n);
-    std::vector<double> sorted_z(n);
-    for (std::size_t k = 0; k < n; ++k) {
-      sorted_points[k] = points[order[k]];
-      sorted_z[k] = z[order[k]];
-    }
-    points = std::move(sorted_points);
-    z = std::move(sorted_z);
-  }
   if (n < 2)
     throw InputError(kComponent, samples.source + ": column '" + v.value + "' has " +
                                      std::to_string(n) + " value(s); a variogram needs pairs");
@@ -391,66 +451,120 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
     }
   };
 
-  const detail::PointIndex index(points, dim);
-  Accumulators total;
-  total.classes.resize(ndir * nclass);
-  total.cells.resize(surface ? side * side : 0);
-  const std::size_t blocks = (n + kBlock - 1) / kBlock;
+  // Samples in the cells' order, as separate coordinate arrays for the
+  // vectorised distance loop.
+  const detail::PairCells cells(points, dim, radius);
+  std::vector<double> xs(n), ys(n), zs(n), vs(n);
+  for (std::size_t s = 0; s < n; ++s) {
+    const std::uint32_t i = cells.order()[s];
+    xs[s] = points[i].x;
+    ys[s] = points[i].y;
+    zs[s] = points[i].z;
+    vs[s] = z[i];
+  }
+
+  // Work comes in chunks of consecutive positions, fixed by the data and the
+  // options alone; each chunk sums into its own accumulators and the chunks
+  // are added in order afterwards, so every sum is formed in the same order
+  // whatever the thread count. The chunk count is bounded by the memory of
+  // their accumulators.
+  const std::size_t slots = ndir * nclass + (surface ? side * side : 0);
+  const std::size_t most_chunks =
+      std::clamp<std::size_t>(kChunkMemory / (slots * sizeof(Sums)), 2, kMaxChunks);
+  const std::size_t chunk = std::max(kBlock, (n + most_chunks - 1) / most_chunks);
+  const std::size_t chunks = (n + chunk - 1) / chunk;
+  std::vector<Accumulators> sums(chunks);
+
+  // The common case (one direction, Matheron, no surface) sums counts,
+  // distances and squared differences only.
+  const bool plain = ndir == 1 && directions.front().omni && !surface && !moments && !roots;
+  const double reach = edges.back();
+  const std::size_t last_class = nclass - 1;
   const int threads = options.threads > 0 ? options.threads : omp_get_max_threads();
   const auto started = std::chrono::steady_clock::now();
+  std::size_t chunks_done = 0;
 
 #pragma omp parallel num_threads(threads)
   {
-    Accumulators local = total;
-#pragma omp for ordered schedule(dynamic, 1)
-    for (std::size_t b = 0; b < blocks; ++b) {
-      local.clear();
-      const std::size_t end = std::min(n, (b + 1) * kBlock);
-      for (std::size_t i = b * kBlock; i < end; ++i) {
-        const Point& pi = points[i];
-        index.for_each_pair_with(
-            static_cast<std::uint32_t>(i), radius, [&](std::uint32_t j, double d) {
-              if (d == 0) return;  // coincident samples are no pair
-              const Point& pj = points[j];
-              const double dx = pj.x - pi.x, dy = pj.y - pi.y, dz = pj.z - pi.z;
-              if (d <= edges.back()) {
-                const std::size_t k = class_of(d, edges, inverse_width);
-                for (std::size_t r = 0; r < ndir; ++r) {
-                  const int sense = directions[r].test(dx, dy, dz, d);
-                  if (sense > 0)
-                    accumulate(local.classes[r * nclass + k], d, z[i], z[j]);
-                  else if (sense < 0)
-                    accumulate(local.classes[r * nclass + k], d, z[j], z[i]);
-                }
+    std::vector<double> distance, squared;
+    std::vector<std::int32_t> klass;
+    PlainSums plain_sums(nclass);
+#pragma omp for schedule(dynamic, 1)
+    for (std::size_t c = 0; c < chunks; ++c) {
+      Accumulators local;
+      local.classes.resize(ndir * nclass);
+      local.cells.resize(surface ? side * side : 0);
+      plain_sums.clear();
+      const std::size_t end = std::min(n, (c + 1) * chunk);
+      for (std::size_t i = c * chunk; i < end; ++i) {
+        const double xi = xs[i], yi = ys[i], zi = zs[i], vi = vs[i];
+        cells.for_each_run(i, yi, zi, [&](std::size_t from, std::size_t to) {
+          const std::size_t m = to - from;
+          if (distance.size() < m) {
+            distance.resize(m);
+            squared.resize(m);
+            klass.resize(m);
+          }
+          pair_distances(xs.data() + from, ys.data() + from, zs.data() + from, vs.data() + from, m,
+                         xi, yi, zi, vi, reach, inverse_width,
+                         static_cast<std::int32_t>(last_class), distance.data(), squared.data(),
+                         klass.data());
+          if (plain) {
+            plain_sums.add(distance.data(), squared.data(), klass.data(), m, edges);
+            return;
+          }
+          for (std::size_t t = 0; t < m; ++t) {
+            const double d = distance[t];
+            if (d == 0) continue;  // coincident samples are no pair
+            const std::size_t j = from + t;
+            const double dx = xs[j] - xi, dy = ys[j] - yi, dz = zs[j] - zi;
+            if (d <= reach) {
+              const auto k =
+                  static_cast<std::size_t>(klass[t] == kNearEdge ? class_of(d, edges) : klass[t]);
+              for (std::size_t r = 0; r < ndir; ++r) {
+                const int sense = directions[r].test(dx, dy, dz, d);
+                if (sense > 0)
+                  accumulate(local.classes[r * nclass + k], d, vi, vs[j]);
+                else if (sense < 0)
+                  accumulate(local.classes[r * nclass + k], d, vs[j], vi);
               }
-              if (surface) {
-                const long cx = std::lround(std::floor(dx / cell + 0.5));
-                const long cy = std::lround(std::floor(dy / cell + 0.5));
-                if (std::abs(cx) > half || std::abs(cy) > half) return;
-                // h = (dx, dy) and -h; rows run from dy = +half down.
-                accumulate(local.cells[static_cast<std::size_t>(
-                               (half - cy) * static_cast<long>(side) + (cx + half))],
-                           d, z[i], z[j]);
-                accumulate(local.cells[static_cast<std::size_t>(
-                               (half + cy) * static_cast<long>(side) + (half - cx))],
-                           d, z[j], z[i]);
-              }
-            });
+            }
+            if (surface) {
+              const long cx = std::lround(std::floor(dx / cell + 0.5));
+              const long cy = std::lround(std::floor(dy / cell + 0.5));
+              if (std::abs(cx) > half || std::abs(cy) > half) continue;
+              // h = (dx, dy) and -h; rows run from dy = +half down.
+              accumulate(local.cells[static_cast<std::size_t>(
+                             (half - cy) * static_cast<long>(side) + (cx + half))],
+                         d, vi, vs[j]);
+              accumulate(local.cells[static_cast<std::size_t>(
+                             (half + cy) * static_cast<long>(side) + (half - cx))],
+                         d, vs[j], vi);
+            }
+          }
+        });
       }
-#pragma omp ordered
+      if (plain) plain_sums.add_to(local.classes);
+      sums[c] = std::move(local);
+#pragma omp critical(sillstone_variogram_progress)
       {
-        total.add(local);
-        if (progress) progress(static_cast<double>(b + 1) / static_cast<double>(blocks));
+        ++chunks_done;
+        if (progress) progress(static_cast<double>(chunks_done) / static_cast<double>(chunks));
       }
     }
   }
+  Accumulators total;
+  total.classes.resize(ndir * nclass);
+  total.cells.resize(surface ? side * side : 0);
+  for (const auto& part : sums) total.add(part);
   v.summary.seconds =
       std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
   v.summary.threads = threads;
 
   // Rows and their warnings.
   std::vector<std::string> sparse, empty;
-  std::size_t undefined_classes = 0;  // pairs, but no finite value (e.g. a correlogram of constant values)
+  std::size_t undefined_classes =
+      0;  // pairs, but no finite value (e.g. a correlogram of constant values)
   for (std::size_t r = 0; r < ndir; ++r) {
     const Direction& dir = directions[r];
     std::string label = dir.omni ? "omnidirectional" : "";
