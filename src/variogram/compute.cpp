@@ -194,7 +194,7 @@ constexpr std::int32_t kNearEdge = -1;
 // GCC builds a copy for AVX2 processors, picked at load time (no FMA: the
 // distances are rounded the same way on every processor).
 #if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__)
-__attribute__((target_clones("avx2", "default")))
+__attribute__((target_clones("avx512f", "avx2", "default")))
 #endif
 void pair_distances(const double* __restrict x, const double* __restrict y,
                     const double* __restrict z, const double* __restrict v, std::size_t m,
@@ -232,57 +232,52 @@ std::int32_t class_of(double d, const std::vector<double>& edges) {
 class PlainSums {
  public:
   explicit PlainSums(std::size_t classes)
-      : classes_(classes),
-        bins_(classes + 1),
-        n_(kCopies * bins_),
-        distance_(kCopies * bins_),
-        squared_(kCopies * bins_) {}
+      : classes_(classes), bins_(classes + 1), sums_(kCopies * bins_) {}
 
-  void clear() {
-    std::fill(n_.begin(), n_.end(), 0);
-    std::fill(distance_.begin(), distance_.end(), 0.0);
-    std::fill(squared_.begin(), squared_.end(), 0.0);
-  }
+  void clear() { std::fill(sums_.begin(), sums_.end(), Bin{}); }
 
   // Adds the m pairs of one run, as pair_distances() left them.
   void add(const double* __restrict distance, const double* __restrict squared,
            const std::int32_t* __restrict klass, std::size_t m, const std::vector<double>& edges) {
-    std::uint64_t* __restrict n = n_.data();
-    double* __restrict sum_d = distance_.data();
-    double* __restrict sum_sq = squared_.data();
-    auto one = [&](std::size_t t, std::size_t copy) {
+    const std::size_t bins = bins_;
+    Bin* __restrict sums = sums_.data();
+    auto one = [&](std::size_t t, Bin* __restrict copy) {
       std::int32_t k = klass[t];
       if (__builtin_expect(k == kNearEdge, 0)) k = class_of(distance[t], edges);
-      const std::size_t b = copy + static_cast<std::size_t>(k);
-      n[b] += 1;
-      sum_d[b] += distance[t];
-      sum_sq[b] += squared[t];
+      Bin& b = copy[k];
+      b.n += 1;
+      b.distance += distance[t];
+      b.squared += squared[t];
     };
     std::size_t t = 0;
     for (; t + kCopies <= m; t += kCopies) {
-      one(t, 0);
-      one(t + 1, bins_);
-      one(t + 2, 2 * bins_);
-      one(t + 3, 3 * bins_);
+      one(t, sums);
+      one(t + 1, sums + bins);
+      one(t + 2, sums + 2 * bins);
+      one(t + 3, sums + 3 * bins);
     }
-    for (; t < m; ++t) one(t, (t % kCopies) * bins_);
+    for (; t < m; ++t) one(t, sums + (t % kCopies) * bins);
   }
 
   // Adds the sums of every class into `out` (one Sums per class).
   void add_to(std::vector<Sums>& out) const {
     for (std::size_t c = 0; c < kCopies; ++c)
       for (std::size_t k = 0; k < classes_; ++k) {
-        out[k].n += n_[c * bins_ + k];
-        out[k].distance += distance_[c * bins_ + k];
-        out[k].squared += squared_[c * bins_ + k];
+        const Bin& b = sums_[c * bins_ + k];
+        out[k].n += b.n;
+        out[k].distance += b.distance;
+        out[k].squared += b.squared;
       }
   }
 
  private:
+  struct Bin {
+    double distance = 0, squared = 0;
+    std::uint64_t n = 0;
+  };
   static constexpr std::size_t kCopies = 4;
   std::size_t classes_, bins_;
-  std::vector<std::uint64_t> n_;
-  std::vector<double> distance_, squared_;
+  std::vector<Bin> sums_;  // kCopies copies of bins_ bins
 };
 
 // Per-chunk (and total) accumulators: one Sums per direction and class, and
