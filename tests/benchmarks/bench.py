@@ -5,7 +5,7 @@ the figures). Not part of ctest: performance is measured here, never in
 timed unit tests.
 
 Every benchmark makes its data with numpy at a fixed seed, runs
-`sillstone krige` / `sillstone crossval` (wall time and peak resident memory
+`sillstone krige` / `sillstone crossval` / `sillstone variogram` (wall time and peak resident memory
 of the process, and its CPU time, from GNU time), and runs its peers in the
 same run:
 
@@ -23,12 +23,15 @@ same run:
           (invdistnn, power 2) with the same point count onto the same grid
           and GDAL_NUM_THREADS as ours, with the smallest radius (rounded up
           to 10 m) that holds that many samples around every node.
+  brute   for B2 (variogram_bench.py): a chunked numpy brute force over all
+          pairs i < j of the same lag classes; pair counts, semivariances and
+          mean distances are compared with ours.
 
 Every timed command runs --repeat times (default 3; B4 once) and the
 fastest run is kept: the machine is shared and the minimum is the least
 disturbed figure.
 
-Usage: bench.py SILLSTONE [--quick] [--only B1,B1s,B3,B4,scaling] [--repeat N] [--json OUT]
+Usage: bench.py SILLSTONE [--quick] [--only B1,B1s,B2,B3,B4,scaling] [--repeat N] [--json OUT]
                 [--other OTHER_SILLSTONE]
 (the figures go to OUT, by default benchmark-results.json beside SILLSTONE)
 """
@@ -301,6 +304,15 @@ class Bench:
                                              5000 if self.quick else 20000)
         self.show("B1s", self.results["B1s"])
 
+    def b2(self):
+        # The variogram of 50,000 samples against a chunked numpy brute force
+        # (variogram_bench.py); the same size in --quick, its numpy part
+        # takes about half a minute.
+        sys.path.insert(0, os.path.dirname(os.path.abspath(__file__)))
+        import variogram_bench
+        self.results["B2"] = variogram_bench.run(self.exe, THREADS)
+        self.show("B2", self.results["B2"])
+
     def b3(self):
         n = 5000 if self.quick else 20000
         pts, z, csv_path, npz_path = self.data(n, 3)
@@ -405,7 +417,7 @@ def main():
     ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
     ap.add_argument("sillstone")
     ap.add_argument("--quick", action="store_true", help="smaller sizes, for a smoke run")
-    ap.add_argument("--only", default="B1,B1s,B3,B4,scaling")
+    ap.add_argument("--only", default="B1,B1s,B2,B3,B4,scaling")
     ap.add_argument("--json", help="where to write the figures (default: beside SILLSTONE)")
     ap.add_argument("--other", help="another sillstone binary (e.g. an older commit's build) "
                                     "timed beside ours on B1 and B1s")
@@ -422,7 +434,7 @@ def main():
     started = time.time()
     try:
         for name in a.only.split(","):
-            {"B1": bench.b1, "B1s": bench.b1s, "B3": bench.b3, "B4": bench.b4,
+            {"B1": bench.b1, "B1s": bench.b1s, "B2": bench.b2, "B3": bench.b3, "B4": bench.b4,
              "scaling": bench.scaling}[name]()
     finally:
         shutil.rmtree(tmp, ignore_errors=True)
@@ -444,9 +456,25 @@ def main():
         print(render_scaling(bench.results["scaling"]))
     if "B1" in bench.results or "B1s" in bench.results:
         print(render_threads(bench.results))
+    if "B2" in bench.results:
+        print(render_variogram(bench.results["B2"]))
     if a.other:
         print(render_other(bench.results))
     return 0
+
+
+def render_variogram(r):
+    """Markdown table of B2, the variogram benchmark."""
+    o = r["ours"]
+    return "\n".join([
+        "", "| benchmark | data | sillstone wall (s) | CPU (s) | peak RSS (MiB) | numpy brute force (s) | "
+            "numpy / ours | ns of CPU per pair | 1->2 threads | matches numpy |",
+        "|---|---|---|---|---|---|---|---|---|---|",
+        f"| B2 | {r['samples']} samples, {r['classes']} classes of {r['lag_m']:g} m, "
+        f"{r['pairs']:,} pairs | {o['wall_s']:.2f} | {o['cpu_s']:.2f} | {o['peak_mib']:.0f} | "
+        f"{r['numpy']['wall_s']:.1f} | {r['ratio_numpy_over_ours']:.1f}x | "
+        f"{r['ns_per_pair_cpu']:.2f} | {r['thread_scaling']:.2f}x | "
+        f"{'yes' if r['identical_counts_values_within_1e-9'] else 'NO'} |"])
 
 
 def render_scaling(curves):
