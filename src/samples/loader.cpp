@@ -9,8 +9,10 @@
 #include <ogrsf_frmts.h>
 
 #include <algorithm>
+#include <cctype>
 #include <cmath>
 #include <filesystem>
+#include <fstream>
 #include <memory>
 #include <mutex>
 #include <numeric>
@@ -70,8 +72,8 @@ int find_field(OGRFeatureDefn* defn, const std::string& name, const std::string&
 std::unique_ptr<OGRSpatialReference> make_srs(const std::string& text, const std::string& option) {
   auto srs = std::make_unique<OGRSpatialReference>();
   if (srs->SetFromUserInput(text.c_str()) != OGRERR_NONE)
-    throw InputError(kComponent, option + " '" + text + "' is not a CRS that GDAL/PROJ knows" +
-                                     gdal_message());
+    throw InputError(kComponent,
+                     option + " '" + text + "' is not a CRS that GDAL/PROJ knows" + gdal_message());
   srs->SetAxisMappingStrategy(OAMS_TRADITIONAL_GIS_ORDER);
   return srs;
 }
@@ -124,6 +126,28 @@ double read_coordinate(OGRFeature& f, int field, const InputLocation& where) {
   return pv.value;
 }
 
+// OGR's CSV driver takes the first line for the header; when it is blank it
+// does not recognise the file at all. Say so, and where, rather than pass on
+// its generic refusal.
+void refuse_leading_blank_lines(const std::string& file) {
+  std::string extension = std::filesystem::path(file).extension().string();
+  for (char& c : extension) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  if (extension != ".csv") return;
+  std::ifstream in(file, std::ios::binary);
+  std::string line;
+  int blank = 0;
+  while (blank < 1000 && std::getline(in, line)) {
+    if (blank == 0 && line.rfind("\xEF\xBB\xBF", 0) == 0) line.erase(0, 3);  // byte-order mark
+    if (line.find_first_not_of(" \t\r") != std::string::npos) break;
+    ++blank;
+  }
+  if (blank > 0 && in)
+    throw InputError(kComponent, InputLocation{file, "line 1", ""},
+                     "the file starts with " + std::to_string(blank) +
+                         " blank line(s); the header (the column names) must be the first "
+                         "line: delete the blank line(s) above it");
+}
+
 }  // namespace
 
 bool SampleOptions::is_valid(std::string* why) const {
@@ -156,11 +180,13 @@ SampleSet load_samples(const SampleOptions& options) {
   if (fs::is_regular_file(status) && fs::file_size(file, ec) == 0)
     throw InputError(kComponent, file + ": the file is empty");
 
-  std::unique_ptr<GDALDataset> ds(GDALDataset::Open(
-      file.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY, nullptr, nullptr, nullptr));
+  refuse_leading_blank_lines(file);
+
+  std::unique_ptr<GDALDataset> ds(GDALDataset::Open(file.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY,
+                                                    nullptr, nullptr, nullptr));
   if (!ds)
-    throw InputError(kComponent, file + ": cannot be read as a vector data source" +
-                                     gdal_message());
+    throw InputError(kComponent,
+                     file + ": cannot be read as a vector data source" + gdal_message());
   const bool csv = EQUAL(ds->GetDriver()->GetDescription(), "CSV");
 
   OGRLayer* layer = nullptr;
@@ -173,8 +199,8 @@ SampleSet load_samples(const SampleOptions& options) {
       std::string names;
       for (int i = 0; i < ds->GetLayerCount(); ++i)
         names += (i ? ", " : "") + std::string(ds->GetLayer(i)->GetName());
-      throw InputError(kComponent, file + ": no layer '" + options.layer +
-                                       "'; the layers are: " + names);
+      throw InputError(kComponent,
+                       file + ": no layer '" + options.layer + "'; the layers are: " + names);
     }
   }
   OGRFeatureDefn* defn = layer->GetLayerDefn();
@@ -187,9 +213,10 @@ SampleSet load_samples(const SampleOptions& options) {
     fx = find_field(defn, options.x, file, "--x");
     fy = find_field(defn, options.y, file, "--y");
   } else if (layer->GetGeomType() == wkbNone) {
-    throw InputError(kComponent, file + ": the layer has no geometry; name the coordinate "
-                                        "columns with --x and --y (columns: " +
-                                        list_fields(defn) + ")");
+    throw InputError(kComponent, file +
+                                     ": the layer has no geometry; name the coordinate "
+                                     "columns with --x and --y (columns: " +
+                                     list_fields(defn) + ")");
   }
   if (!options.z.empty()) fz = find_field(defn, options.z, file, "--z");
 
@@ -216,8 +243,9 @@ SampleSet load_samples(const SampleOptions& options) {
   std::unique_ptr<OGRCoordinateTransformation> transform;
   if (!options.to_crs.empty()) {
     if (!source_srs)
-      throw InputError(kComponent, file + ": --to-crs needs the source's CRS; the source has "
-                                          "none, so give it with --crs");
+      throw InputError(kComponent, file +
+                                       ": --to-crs needs the source's CRS; the source has "
+                                       "none, so give it with --crs");
     target_srs = make_srs(options.to_crs, "--to-crs");
     transform.reset(OGRCreateCoordinateTransformation(source_srs.get(), target_srs.get()));
     if (!transform)
@@ -311,9 +339,9 @@ SampleSet load_samples(const SampleOptions& options) {
           const std::string text = feature->GetFieldAsString(field);
           pv = parse_value(text);
           if (pv.kind == ParsedValue::Kind::invalid)
-            throw InputError(kComponent, where,
-                             "cannot read '" + text +
-                                 "' as a number, a non-detect (<DL) or a missing marker");
+            throw InputError(
+                kComponent, where,
+                "cannot read '" + text + "' as a number, a non-detect (<DL) or a missing marker");
         }
       }
       switch (pv.kind) {
@@ -328,10 +356,18 @@ SampleSet load_samples(const SampleOptions& options) {
           ++sum.below_detection[k];
           row.censored[k] = 1;
           switch (options.below_detection) {
-            case BelowDetection::half: row.values[k] = pv.value / 2; break;
-            case BelowDetection::limit: row.values[k] = pv.value; break;
-            case BelowDetection::zero: row.values[k] = 0; break;
-            case BelowDetection::drop: row.values[k] = std::nan(""); break;
+            case BelowDetection::half:
+              row.values[k] = pv.value / 2;
+              break;
+            case BelowDetection::limit:
+              row.values[k] = pv.value;
+              break;
+            case BelowDetection::zero:
+              row.values[k] = 0;
+              break;
+            case BelowDetection::drop:
+              row.values[k] = std::nan("");
+              break;
           }
           if (!std::isnan(row.values[k])) ++present;
           break;
@@ -443,8 +479,9 @@ SampleSet load_samples(const SampleOptions& options) {
     set.crs_name = analysis_srs->GetName() ? analysis_srs->GetName() : "";
     set.crs_authority = srs_authority(*analysis_srs);
   } else {
-    sum.warnings.push_back("the samples have no CRS: coordinates are taken as local "
-                           "projected units and outputs will carry no CRS (give one with --crs)");
+    sum.warnings.push_back(
+        "the samples have no CRS: coordinates are taken as local "
+        "projected units and outputs will carry no CRS (give one with --crs)");
   }
 
   // --- Warnings for what was repaired ----------------------------------------------
@@ -455,12 +492,13 @@ SampleSet load_samples(const SampleOptions& options) {
                              options.values[v] + "' are below detection (<DL); replaced by " +
                              (options.below_detection == BelowDetection::half    ? "DL/2"
                               : options.below_detection == BelowDetection::limit ? "DL"
-                              : options.below_detection == BelowDetection::zero  ? "0"
-                                                                                 : "nothing (dropped)") +
+                              : options.below_detection == BelowDetection::zero
+                                  ? "0"
+                                  : "nothing (dropped)") +
                              " (--below-detection " + policy + ")");
     if (sum.missing[v])
-      sum.warnings.push_back(std::to_string(sum.missing[v]) + " value(s) of '" +
-                             options.values[v] + "' are blank or marked missing; skipped");
+      sum.warnings.push_back(std::to_string(sum.missing[v]) + " value(s) of '" + options.values[v] +
+                             "' are blank or marked missing; skipped");
   }
   if (sum.dropped_no_coordinate)
     sum.warnings.push_back(std::to_string(sum.dropped_no_coordinate) +
@@ -475,8 +513,7 @@ SampleSet load_samples(const SampleOptions& options) {
         std::to_string(sum.duplicate_locations) + " location(s) hold more than one sample (" +
         examples + (sum.duplicate_locations > sum.duplicate_examples.size() ? "; ..." : "") +
         "); " +
-        (options.duplicates == DuplicatePolicy::average ? "values averaged"
-                                                        : "first row kept") +
+        (options.duplicates == DuplicatePolicy::average ? "values averaged" : "first row kept") +
         " (--duplicates " + std::string(name_of(options.duplicates)) + ")");
   }
   return set;
@@ -490,8 +527,10 @@ void require_variation(const SampleSet& samples, std::size_t column, const std::
   bool varies = false;
   for (double x : v) {
     if (std::isnan(x)) continue;
-    if (count++ == 0) first = x;
-    else if (x != first) varies = true;
+    if (count++ == 0)
+      first = x;
+    else if (x != first)
+      varies = true;
   }
   if (varies || count == 0) return;
   std::ostringstream value;
