@@ -6,8 +6,8 @@
 #include <Eigen/Dense>
 
 #include <algorithm>
-#include <iterator>
 #include <cmath>
+#include <iterator>
 #include <limits>
 #include <sstream>
 
@@ -52,8 +52,8 @@ std::string fmt(double v) {
 int drift_columns(const KrigingOptions& o, int dimension) {
   if (o.method == KrigingMethod::simple) return 0;
   int p = 1;
-  const Drift d = o.method == KrigingMethod::universal && o.drift == Drift::none ? Drift::linear
-                                                                                 : o.drift;
+  const Drift d =
+      o.method == KrigingMethod::universal && o.drift == Drift::none ? Drift::linear : o.drift;
   if (o.method == KrigingMethod::universal) {
     p += dimension;
     if (d == Drift::quadratic) p += dimension * (dimension + 1) / 2;
@@ -109,7 +109,8 @@ struct KrigingEngine::External {
   double at(double x, double y) const {
     const double col = (x - gt[0]) / gt[1];
     const double row = (y - gt[3]) / gt[5];
-    if (!(col >= 0) || !(row >= 0) || col >= static_cast<double>(nx) || row >= static_cast<double>(ny))
+    if (!(col >= 0) || !(row >= 0) || col >= static_cast<double>(nx) ||
+        row >= static_cast<double>(ny))
       return kNaN;
     const double v = data[static_cast<std::size_t>(row) * static_cast<std::size_t>(nx) +
                           static_cast<std::size_t>(col)];
@@ -123,8 +124,9 @@ bool KrigingOptions::is_valid(int dimension, const CovarianceModel& model, std::
     return false;
   };
   if (method == KrigingMethod::simple && !model.has_sill())
-    return fail("a power model has no sill, so it has no covariance: simple kriging needs one "
-                "(use --method ordinary)");
+    return fail(
+        "a power model has no sill, so it has no covariance: simple kriging needs one "
+        "(use --method ordinary)");
   if (method == KrigingMethod::simple && !external_drift.empty())
     return fail("--external-drift needs --method ordinary or universal");
   if (method != KrigingMethod::universal && drift != Drift::none)
@@ -136,12 +138,13 @@ bool KrigingOptions::is_valid(int dimension, const CovarianceModel& model, std::
     return fail("kriging supports --transform none or log");
   if (transform == Transform::log &&
       (method == KrigingMethod::universal || !external_drift.empty()))
-    return fail("--transform log is supported with simple and ordinary kriging only (the "
-                "unbiased back-transform of docs/kriging.md is defined for those)");
+    return fail(
+        "--transform log is supported with simple and ordinary kriging only (the "
+        "unbiased back-transform of docs/kriging.md is defined for those)");
   if (!block.empty()) {
     if (static_cast<int>(block.size()) != dimension)
-      return fail("--block takes " + std::string(dimension == 3 ? "DX,DY,DZ" : "DX,DY") +
-                  " for " + std::to_string(dimension) + "D data");
+      return fail("--block takes " + std::string(dimension == 3 ? "DX,DY,DZ" : "DX,DY") + " for " +
+                  std::to_string(dimension) + "D data");
     for (double b : block)
       if (!(b > 0) || !std::isfinite(b)) return fail("--block sizes must be positive");
   }
@@ -171,11 +174,21 @@ bool KrigingOptions::is_valid(int dimension, const CovarianceModel& model, std::
 void KrigingSummary::count(NodeEstimate::Status s) {
   ++targets;
   switch (s) {
-    case NodeEstimate::Status::ok: ++estimated; break;
-    case NodeEstimate::Status::too_few_neighbours: ++too_few_neighbours; break;
-    case NodeEstimate::Status::singular: ++singular; break;
-    case NodeEstimate::Status::drift_unresolved: ++drift_unresolved; break;
-    case NodeEstimate::Status::outside_drift: ++outside_drift; break;
+    case NodeEstimate::Status::ok:
+      ++estimated;
+      break;
+    case NodeEstimate::Status::too_few_neighbours:
+      ++too_few_neighbours;
+      break;
+    case NodeEstimate::Status::singular:
+      ++singular;
+      break;
+    case NodeEstimate::Status::drift_unresolved:
+      ++drift_unresolved;
+      break;
+    case NodeEstimate::Status::outside_drift:
+      ++outside_drift;
+      break;
   }
 }
 
@@ -215,8 +228,9 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
   if (!neighbourhood.is_valid(dimension_, &why)) throw InputError(kComponent, why);
   if (column >= samples.values.size()) throw InputError(kComponent, "no such value column");
   if (model.dimension() == 3 && dimension_ == 2)
-    throw InputError(kComponent, "the model has 3D anisotropy (dip, plunge or ratio2) but the "
-                                 "samples are 2D (give --z)");
+    throw InputError(kComponent,
+                     "the model has 3D anisotropy (dip, plunge or ratio2) but the "
+                     "samples are 2D (give --z)");
 
   // Values on the kriged scale; samples without a value are left out.
   std::vector<std::size_t> used;
@@ -226,8 +240,8 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
     double v = raw[i];
     if (options.transform == Transform::log) {
       if (!(v > 0))
-        throw InputError(kComponent, InputLocation{samples.source, samples.ids[i],
-                                                   samples.value_names[column]},
+        throw InputError(kComponent,
+                         InputLocation{samples.source, samples.ids[i], samples.value_names[column]},
                          "--transform log needs positive values (got " + fmt(v) + ")");
       v = std::log(v);
     }
@@ -241,14 +255,13 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
     throw InputError(kComponent, "--max-points " + std::to_string(neighbourhood.max_points) +
                                      " is too few for " + std::string(name_of(options.method)) +
                                      " kriging with these drift terms: its " +
-                                     std::to_string(drift_terms_) +
-                                     " drift terms need at least " + std::to_string(needed) +
-                                     " samples in each system");
+                                     std::to_string(drift_terms_) + " drift terms need at least " +
+                                     std::to_string(needed) + " samples in each system");
   if (values_.size() < needed)
-    throw InputError(kComponent, samples.source + ": " + std::to_string(values_.size()) +
-                                     " sample(s) with a value; " + std::string(name_of(options.method)) +
-                                     " kriging with these drift terms needs at least " +
-                                     std::to_string(needed));
+    throw InputError(
+        kComponent, samples.source + ": " + std::to_string(values_.size()) +
+                        " sample(s) with a value; " + std::string(name_of(options.method)) +
+                        " kriging with these drift terms needs at least " + std::to_string(needed));
 
   // Centre the coordinates (UTM-scale northings keep their precision).
   double sx = 0, sy = 0, sz = 0;
@@ -291,7 +304,13 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
   // External drift: the raster's value at each sample.
   if (!options.external_drift.empty()) {
     auto ext = std::make_unique<External>();
-    const std::unique_ptr<GDALDataset> ds = open_external_drift(options.external_drift, samples, ext->gt);
+    const std::unique_ptr<GDALDataset> ds =
+        open_external_drift(options.external_drift, samples, ext->gt);
+    if (const OGRSpatialReference* srs = ds->GetSpatialRef(); srs && samples.crs_wkt.empty())
+      warnings_.push_back(options.external_drift + ": the external drift raster is in " +
+                          std::string(srs->GetName()) +
+                          " but the samples have no CRS: they are taken to be in the same CRS "
+                          "(give theirs with --crs to have this checked)");
     ext->nx = ds->GetRasterXSize();
     ext->ny = ds->GetRasterYSize();
     GDALRasterBand* band = ds->GetRasterBand(1);
@@ -322,7 +341,8 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
     std::vector<double> row(static_cast<std::size_t>(drift_terms_));
     for (std::size_t i = 0; i < points_.size(); ++i) {
       drift_row(points_[i], external_.empty() ? 0.0 : external_[i], row.data());
-      for (int c = 0; c < drift_terms_; ++c) f(static_cast<Eigen::Index>(i), c) = row[static_cast<std::size_t>(c)];
+      for (int c = 0; c < drift_terms_; ++c)
+        f(static_cast<Eigen::Index>(i), c) = row[static_cast<std::size_t>(c)];
     }
     Eigen::ColPivHouseholderQR<Eigen::MatrixXd> qr(f);
     qr.setThreshold(1e-10);
@@ -352,8 +372,9 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
     }
   }
   if (!model.has_sill())
-    notes_.push_back("the power model has no sill: systems use the generalised covariance "
-                     "-gamma(h), valid because the weights sum to one");
+    notes_.push_back(
+        "the power model has no sill: systems use the generalised covariance "
+        "-gamma(h), valid because the weights sum to one");
 
   // The search ellipse follows the anisotropy of the longest structure.
   const auto shape = search_shape(model);
@@ -398,10 +419,12 @@ double KrigingEngine::external_at(const Point& p) const {
 void KrigingEngine::diagnose(const SampleSet& samples, const std::vector<std::size_t>& used) {
   const std::size_t n = points_.size();
   if (n < kFewSamples)
-    warnings_.push_back("only " + std::to_string(n) + " sample(s) with a value: the estimates and "
+    warnings_.push_back("only " + std::to_string(n) +
+                        " sample(s) with a value: the estimates and "
                         "variances rest on the model, which so few samples cannot check "
                         "(common practice: kriging wants some tens of samples)");
-  if (n >= 2 && std::all_of(values_.begin(), values_.end(), [this](double v) { return v == values_.front(); }))
+  if (n >= 2 && std::all_of(values_.begin(), values_.end(),
+                            [this](double v) { return v == values_.front(); }))
     warnings_.push_back("all " + std::to_string(n) + " values are equal (" + fmt(values_.front()) +
                         "): there is no spatial variation; the estimate is that value everywhere");
 
@@ -419,7 +442,8 @@ void KrigingEngine::diagnose(const SampleSet& samples, const std::vector<std::si
     Eigen::ColPivHouseholderQR<Eigen::MatrixXd> qr(f);
     qr.setThreshold(1e-10);
     if (qr.rank() < dimension_ + 1)
-      warnings_.push_back(std::string("the samples lie on one ") + (dimension_ == 3 ? "plane" : "line") +
+      warnings_.push_back(std::string("the samples lie on one ") +
+                          (dimension_ == 3 ? "plane" : "line") +
                           ": away from it the estimates rest on the model alone, and universal "
                           "kriging with a linear drift is not possible");
   }
@@ -455,9 +479,10 @@ void KrigingEngine::diagnose(const SampleSet& samples, const std::vector<std::si
   if (near > 0) {
     std::string list;
     for (const auto& p : pairs) list += (list.empty() ? "" : "; ") + p;
-    warnings_.push_back(std::to_string(near) + " pair(s) of samples are near-duplicates: so close that "
-                        "the model correlates their values above 1 - 1e-6 (" + list +
-                        (near > pairs.size() ? "; ..." : "") +
+    warnings_.push_back(std::to_string(near) +
+                        " pair(s) of samples are near-duplicates: so close that "
+                        "the model correlates their values above 1 - 1e-6 (" +
+                        list + (near > pairs.size() ? "; ..." : "") +
                         "). Kriging systems holding both are ill-conditioned and cross-validation "
                         "estimates each from the other; merge them (one location each) or add a "
                         "nugget");
@@ -471,13 +496,16 @@ void KrigingEngine::diagnose(const SampleSet& samples, const std::vector<std::si
   const double median = spacing[spacing.size() / 2];
   for (const Structure& s : model_.structures()) {
     if (s.family != Family::gaussian || !(s.sill > 0)) continue;
-    const double minor = s.range * std::min(s.anisotropy.ratio, dimension_ == 3 ? s.anisotropy.ratio2 : 1.0);
+    const double minor =
+        s.range * std::min(s.anisotropy.ratio, dimension_ == 3 ? s.anisotropy.ratio2 : 1.0);
     // Correlation of the gaussian at the median spacing along its shortest axis.
     const double rho = std::exp(-3.0 * (median / minor) * (median / minor));
     if (rho > 0.9)
       warnings_.push_back("the model has a gaussian structure (range " + fmt(s.range) +
                           ") and no nugget, and the samples are dense for that range (median "
-                          "spacing " + fmt(median) + "): kriging systems are then "
+                          "spacing " +
+                          fmt(median) +
+                          "): kriging systems are then "
                           "ill-conditioned, and those that fail the condition check are left "
                           "unestimated; a small nugget (say 1% of the sill) cures this");
     break;
@@ -505,8 +533,8 @@ NodeEstimate KrigingEngine::estimate(const Point& target, Workspace& ws, std::in
   const std::size_t n = search_->find_set(t, ws.nb, ws.search, exclude);
   e.neighbours = static_cast<int>(n);
   const auto p = static_cast<std::size_t>(drift_terms_);
-  const auto min_points = static_cast<std::size_t>(
-      search_->options().global ? 1 : search_->options().min_points);
+  const auto min_points =
+      static_cast<std::size_t>(search_->options().global ? 1 : search_->options().min_points);
   if (n < std::max<std::size_t>(min_points, p + (p > 0 ? 1 : 0)) || n == 0) {
     e.status = n < min_points ? NodeEstimate::Status::too_few_neighbours
                               : NodeEstimate::Status::drift_unresolved;
@@ -717,7 +745,7 @@ void KrigingEngine::remove_from_factor(Workspace& ws, std::size_t j) const {
   double* L = ws.L.data();
   double* x = ws.column.data();
   for (std::size_t i = j + 1; i < n; ++i) x[i - 1] = L[j * ld + i];  // l32, new indices
-  for (std::size_t c = 0; c < j; ++c)  // rows below j move up
+  for (std::size_t c = 0; c < j; ++c)                                // rows below j move up
     std::copy(L + c * ld + j + 1, L + c * ld + n, L + c * ld + j);
   double* e = ws.extra.data();  // entries of the extra rows in column j
   e[0] = ws.w[j];
@@ -862,7 +890,8 @@ NodeEstimate KrigingEngine::estimate_intrinsic(
     const Point& pi = points_[ws.nb[i]];
     for (std::size_t j = 0; j < n; ++j) {
       const Point& pj = points_[ws.nb[j]];
-      a(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = cov(pi.x - pj.x, pi.y - pj.y, pi.z - pj.z);
+      a(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) =
+          cov(pi.x - pj.x, pi.y - pj.y, pi.z - pj.z);
     }
     drift_row(pi, external_.empty() ? 0.0 : external_[ws.nb[i]], ws.drift.data());
     for (std::size_t c = 0; c < p; ++c) {
@@ -931,7 +960,8 @@ NodeOutput KrigingEngine::finish(const NodeEstimate& e) const {
     // Huijbregts 1978; Webster & Oliver 2007 write it -psi in variogram form).
     o.estimate = std::exp(e.estimate + e.variance / 2 +
                           (options_.method == KrigingMethod::simple ? 0.0 : e.lagrange));
-    if (!std::isnan(options_.threshold)) o.probability = above(e.estimate, std::log(options_.threshold));
+    if (!std::isnan(options_.threshold))
+      o.probability = above(e.estimate, std::log(options_.threshold));
   } else {
     o.estimate = e.estimate;
     if (!std::isnan(options_.threshold)) o.probability = above(e.estimate, options_.threshold);

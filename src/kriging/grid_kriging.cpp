@@ -38,12 +38,16 @@ class Mask {
  public:
   Mask(const std::string& path, const GridSpec& grid) {
     GDALAllRegister();
-    ds_.reset(GDALDataset::Open(path.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY, nullptr,
-                                nullptr, nullptr));
+    ds_.reset(GDALDataset::Open(path.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY, nullptr, nullptr,
+                                nullptr));
     if (!ds_ || ds_->GetLayerCount() < 1)
       throw InputError(kComponent, path + ": cannot be read as polygons (--mask)");
     OGRLayer* layer = ds_->GetLayer(0);
     const OGRSpatialReference* srs = layer->GetSpatialRef();
+    if (srs && grid.crs_wkt.empty())
+      note_ = path + ": the mask is in " + std::string(srs->GetName()) +
+              " but the samples have no CRS: they are taken to be in the same CRS (give theirs "
+              "with --crs to have this checked)";
     if (srs && !grid.crs_wkt.empty()) {
       OGRSpatialReference mine;
       mine.importFromWkt(grid.crs_wkt.c_str());
@@ -64,12 +68,16 @@ class Mask {
     if (geometries_.empty()) throw InputError(kComponent, path + ": holds no polygon (--mask)");
   }
 
+  // A warning for the user, or empty.
+  const std::string& note() const { return note_; }
+
   // inside[i] = 1 for nodes of rows [row0, row0 + rows) whose centre is in a polygon.
-  void rows(const GridSpec& g, std::int64_t row0, std::int64_t rows, std::vector<unsigned char>& inside) {
+  void rows(const GridSpec& g, std::int64_t row0, std::int64_t rows,
+            std::vector<unsigned char>& inside) {
     inside.assign(static_cast<std::size_t>(g.nx * rows), 0);
     GDALDriver* mem = GetGDALDriverManager()->GetDriverByName("MEM");
-    std::unique_ptr<GDALDataset> ds(mem->Create("", static_cast<int>(g.nx), static_cast<int>(rows), 1,
-                                                GDT_Byte, nullptr));
+    std::unique_ptr<GDALDataset> ds(
+        mem->Create("", static_cast<int>(g.nx), static_cast<int>(rows), 1, GDT_Byte, nullptr));
     double gt[6] = {g.xmin, g.dx, 0, g.ymax - static_cast<double>(row0) * g.dy, 0, -g.dy};
     ds->SetGeoTransform(gt);
     int band = 1;
@@ -81,15 +89,16 @@ class Mask {
                                 static_cast<int>(handles.size()), handles.data(), nullptr, nullptr,
                                 burns.data(), nullptr, nullptr, nullptr) != CE_None)
       throw std::runtime_error(std::string("rasterising the mask failed: ") + CPLGetLastErrorMsg());
-    if (ds->GetRasterBand(1)->RasterIO(GF_Read, 0, 0, static_cast<int>(g.nx), static_cast<int>(rows),
-                                       inside.data(), static_cast<int>(g.nx), static_cast<int>(rows),
-                                       GDT_Byte, 0, 0, nullptr) != CE_None)
+    if (ds->GetRasterBand(1)->RasterIO(
+            GF_Read, 0, 0, static_cast<int>(g.nx), static_cast<int>(rows), inside.data(),
+            static_cast<int>(g.nx), static_cast<int>(rows), GDT_Byte, 0, 0, nullptr) != CE_None)
       throw std::runtime_error("reading the rasterised mask failed");
   }
 
  private:
   std::unique_ptr<GDALDataset> ds_;
   std::vector<std::unique_ptr<OGRGeometry>> geometries_;
+  std::string note_;
 };
 
 // The cells of `grid` that hold at least one point of a block list.
@@ -101,7 +110,8 @@ std::vector<unsigned char> listed_blocks(const std::string& path, const GridSpec
     throw InputError(kComponent, path + ": cannot be read as a list of blocks");
   OGRLayer* layer = ds->GetLayer(0);
   OGRFeatureDefn* defn = layer->GetLayerDefn();
-  const int fx = defn->GetFieldIndex("x"), fy = defn->GetFieldIndex("y"), fz = defn->GetFieldIndex("z");
+  const int fx = defn->GetFieldIndex("x"), fy = defn->GetFieldIndex("y"),
+            fz = defn->GetFieldIndex("z");
   const bool fields = fx >= 0 && fy >= 0;
   std::vector<unsigned char> keep(static_cast<std::size_t>(g.nodes()), 0);
   for (auto& f : *layer) {
@@ -110,14 +120,16 @@ std::vector<unsigned char> listed_blocks(const std::string& path, const GridSpec
       x = f->GetFieldAsDouble(fx);
       y = f->GetFieldAsDouble(fy);
       if (fz >= 0) z = f->GetFieldAsDouble(fz);
-    } else if (const OGRGeometry* geom = f->GetGeometryRef(); geom && wkbFlatten(geom->getGeometryType()) == wkbPoint) {
+    } else if (const OGRGeometry* geom = f->GetGeometryRef();
+               geom && wkbFlatten(geom->getGeometryType()) == wkbPoint) {
       const OGRPoint* p = geom->toPoint();
       x = p->getX();
       y = p->getY();
       if (p->Is3D()) z = p->getZ();
     } else {
-      throw InputError(kComponent, path + ", feature " + std::to_string(f->GetFID()) +
-                                       ": a block list needs x, y[, z] columns or point geometries");
+      throw InputError(kComponent,
+                       path + ", feature " + std::to_string(f->GetFID()) +
+                           ": a block list needs x, y[, z] columns or point geometries");
     }
     const double col = std::floor((x - g.xmin) / g.dx), row = std::floor((g.ymax - y) / g.dy),
                  layer_index = g.dimension == 3 ? std::floor((z - g.zmin) / g.dz) : 0.0;
@@ -126,7 +138,8 @@ std::vector<unsigned char> listed_blocks(const std::string& path, const GridSpec
       continue;
     // Table order: x fastest, then y ascending (south to north), then z.
     const auto i = static_cast<std::int64_t>(layer_index) * g.nx * g.ny +
-                   (g.ny - 1 - static_cast<std::int64_t>(row)) * g.nx + static_cast<std::int64_t>(col);
+                   (g.ny - 1 - static_cast<std::int64_t>(row)) * g.nx +
+                   static_cast<std::int64_t>(col);
     keep[static_cast<std::size_t>(i)] = 1;
   }
   return keep;
@@ -184,7 +197,9 @@ void tally(const std::vector<NodeEstimate>& block, KrigingSummary& s) {
 
 void check_mask(const std::string& path, const GridSpec& grid) { Mask(path, grid); }
 
-std::string probability_name(double threshold) { return "probability_above_" + detail::shortest(threshold); }
+std::string probability_name(double threshold) {
+  return "probability_above_" + detail::shortest(threshold);
+}
 
 std::vector<std::string> describe(const KrigingSummary& s, const std::string& target) {
   std::vector<std::string> out;
@@ -195,12 +210,16 @@ std::vector<std::string> describe(const KrigingSummary& s, const std::string& ta
   const std::string left = target == "node" ? ": nodata" : ": left unestimated";
   line(s.masked, t + " outside the mask or block list: nodata or left out");
   line(s.too_few_neighbours, t + " with fewer samples than --min-points in the search" + left);
-  line(s.singular, t + " whose kriging system was singular or badly conditioned "
-                       "(near-duplicate samples, or a gaussian model without nugget)" + left);
+  line(s.singular, t +
+                       " whose kriging system was singular or badly conditioned "
+                       "(near-duplicate samples, or a gaussian model without nugget)" +
+                       left);
   line(s.drift_unresolved, t + " whose neighbours cannot fix the drift" + left);
   line(s.outside_drift, t + " outside the external drift raster" + left);
-  line(s.non_finite, "estimated " + t + " whose estimate, variance or probability is not a "
-                     "finite number (e.g. a back-transform that overflows)" + left);
+  line(s.non_finite, "estimated " + t +
+                         " whose estimate, variance or probability is not a "
+                         "finite number (e.g. a back-transform that overflows)" +
+                         left);
   for (const auto& [column, count] : s.empty_columns) {
     const std::string why =
         column == "kriging_efficiency"    ? "the model has no sill, or the block variance is 0"
@@ -216,7 +235,8 @@ namespace {
 // Nodes kriged at once for a raster: 256 rows (the GeoTIFF tile height),
 // fewer for very wide grids, at most about 4 million nodes.
 std::int64_t raster_block_rows(const GridSpec& grid) {
-  return std::max<std::int64_t>(1, std::min<std::int64_t>(256, (1 << 22) / std::max<std::int64_t>(grid.nx, 1)));
+  return std::max<std::int64_t>(
+      1, std::min<std::int64_t>(256, (1 << 22) / std::max<std::int64_t>(grid.nx, 1)));
 }
 
 // Bytes held per node while a block of nodes is kriged and written.
@@ -241,8 +261,8 @@ std::string bytes_text(double bytes) {
 
 OutputSize output_size(const GridSpec& grid, std::size_t values_per_node, bool table) {
   OutputSize o;
-  const double nodes = static_cast<double>(grid.nx) * static_cast<double>(grid.ny) *
-                       static_cast<double>(grid.nz);
+  const double nodes =
+      static_cast<double>(grid.nx) * static_cast<double>(grid.ny) * static_cast<double>(grid.nz);
   const double values = static_cast<double>(values_per_node);
   if (table) {
     o.disk = nodes * (values + 3) * kTableBytesPerValue;  // x, y, z and the values
@@ -250,7 +270,8 @@ OutputSize output_size(const GridSpec& grid, std::size_t values_per_node, bool t
     o.memory = static_cast<double>(grid.nx) * static_cast<double>(grid.ny) * kBytesPerNode + nodes;
   } else {
     o.disk = nodes * values * sizeof(double);  // uncompressed
-    o.memory = static_cast<double>(grid.nx) * static_cast<double>(raster_block_rows(grid)) * kBytesPerNode;
+    o.memory =
+        static_cast<double>(grid.nx) * static_cast<double>(raster_block_rows(grid)) * kBytesPerNode;
   }
   return o;
 }
@@ -267,36 +288,41 @@ void check_output_size(const GridSpec& grid, std::size_t values_per_node, bool t
                                    "; use a larger --cell or a smaller --extent");
   }
   const OutputSize need = output_size(grid, values_per_node, table);
-  const std::string nodes = std::to_string(grid.nodes()) + " nodes x " +
-                            std::to_string(values_per_node) + " values";
-  const fs::path folder = fs::path(path).has_parent_path() ? fs::path(path).parent_path() : fs::path(".");
+  const std::string nodes =
+      std::to_string(grid.nodes()) + " nodes x " + std::to_string(values_per_node) + " values";
+  const fs::path folder =
+      fs::path(path).has_parent_path() ? fs::path(path).parent_path() : fs::path(".");
   std::error_code ec;
   const fs::space_info space = fs::space(folder, ec);
   if (!ec && need.disk > static_cast<double>(space.available))
     throw InputError("grid", path + ": the output would need about " + bytes_text(need.disk) +
-                                 (table ? "" : " uncompressed") + " (" + nodes + "), more than the " +
+                                 (table ? "" : " uncompressed") + " (" + nodes +
+                                 "), more than the " +
                                  bytes_text(static_cast<double>(space.available)) + " free in " +
                                  folder.string() + "; use a larger --cell or a smaller --extent");
   const long pages = ::sysconf(_SC_PHYS_PAGES), page = ::sysconf(_SC_PAGE_SIZE);
   if (pages > 0 && page > 0) {
     const double memory = static_cast<double>(pages) * static_cast<double>(page);
     if (need.memory > memory)
-      throw InputError("grid", path + ": kriging this grid would need about " +
-                                   bytes_text(need.memory) + " of memory (" + nodes +
-                                   (table ? ", one layer at a time" : ", one block of rows at a time") +
-                                   "), more than the " + bytes_text(memory) +
-                                   " this machine has; use a larger --cell or a smaller --extent");
+      throw InputError("grid",
+                       path + ": kriging this grid would need about " + bytes_text(need.memory) +
+                           " of memory (" + nodes +
+                           (table ? ", one layer at a time" : ", one block of rows at a time") +
+                           "), more than the " + bytes_text(memory) +
+                           " this machine has; use a larger --cell or a smaller --extent");
   }
 }
 
 KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
                             const RasterTarget& target, const Progress& progress) {
   const auto start = std::chrono::steady_clock::now();
-  if (grid.dimension != 2) throw InputError(kComponent, "rasters are 2D; write a 3D grid as a table");
+  if (grid.dimension != 2)
+    throw InputError(kComponent, "rasters are 2D; write a 3D grid as a table");
   const bool with_probability = !std::isnan(engine.options().threshold);
   RasterLayout layout;
   layout.grid = grid;
-  layout.bands = {"estimate", engine.options().transform == Transform::log ? "variance (log scale)" : "variance"};
+  layout.bands = {"estimate", engine.options().transform == Transform::log ? "variance (log scale)"
+                                                                           : "variance"};
   if (with_probability) layout.bands.push_back(probability_name(engine.options().threshold));
   layout.nodata = target.nodata;
   layout.metadata = target.metadata;
@@ -313,8 +339,8 @@ KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
   for (int i = 0; i < summary.threads; ++i) workspaces.push_back(engine.make_workspace());
 
   // 256 rows per block (the GeoTIFF tile height), fewer for very wide grids.
-  const std::int64_t block_rows =
-      std::max<std::int64_t>(1, std::min<std::int64_t>(256, (1 << 22) / std::max<std::int64_t>(grid.nx, 1)));
+  const std::int64_t block_rows = std::max<std::int64_t>(
+      1, std::min<std::int64_t>(256, (1 << 22) / std::max<std::int64_t>(grid.nx, 1)));
   // Two sets of buffers: while the threads krige one block, the previous one
   // is back-transformed, compressed and written on another thread (GDAL
   // compresses on the calling thread), so writing does not leave the
@@ -355,9 +381,12 @@ KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
     const std::int64_t rows = std::min(block_rows, grid.ny - row0);
     if (mask) mask->rows(grid, row0, rows, inside);
     Buffers& b = buffers[current];
-    krige_nodes(engine, grid.nx * rows,
-                [&](std::int64_t i) { return Point{grid.x(i % grid.nx), grid.y(row0 + i / grid.nx), 0}; },
-                mask ? &inside : nullptr, workspaces, b.block, summary.threads);
+    krige_nodes(
+        engine, grid.nx * rows,
+        [&](std::int64_t i) {
+          return Point{grid.x(i % grid.nx), grid.y(row0 + i / grid.nx), 0};
+        },
+        mask ? &inside : nullptr, workspaces, b.block, summary.threads);
     if (pending.valid()) pending.get();  // the previous block is written (or throws)
     if (progress && row0 > 0) progress(static_cast<double>(row0) / static_cast<double>(grid.ny));
     // With one thread asked for, one thread it is: write in line.
@@ -373,6 +402,7 @@ KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
   out.commit();
   summary.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   summary.warnings = describe(summary);
+  if (mask && !mask->note().empty()) summary.warnings.push_back(mask->note());
   return summary;
 }
 
@@ -381,7 +411,8 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
   const auto start = std::chrono::steady_clock::now();
   namespace fs = std::filesystem;
   std::string ext = fs::path(target.path).extension().string();
-  std::transform(ext.begin(), ext.end(), ext.begin(), [](unsigned char c) { return static_cast<char>(std::tolower(c)); });
+  std::transform(ext.begin(), ext.end(), ext.begin(),
+                 [](unsigned char c) { return static_cast<char>(std::tolower(c)); });
   if (ext != ".csv" && ext != ".gpkg")
     throw InputError(kComponent, target.path + ": a block model is written as .csv or .gpkg");
   const bool with_probability = !std::isnan(engine.options().threshold);
@@ -405,13 +436,16 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
     gpkg.reset(driver->Create(out.temp_path().c_str(), 0, 0, 0, GDT_Unknown, nullptr));
     if (!gpkg) throw std::runtime_error("cannot create " + out.temp_path());
     OGRSpatialReference srs;
-    const bool has_srs = !grid.crs_wkt.empty() && srs.importFromWkt(grid.crs_wkt.c_str()) == OGRERR_NONE;
-    layer = gpkg->CreateLayer("blocks", has_srs ? &srs : nullptr, grid.dimension == 3 ? wkbPoint25D : wkbPoint, nullptr);
+    const bool has_srs =
+        !grid.crs_wkt.empty() && srs.importFromWkt(grid.crs_wkt.c_str()) == OGRERR_NONE;
+    layer = gpkg->CreateLayer("blocks", has_srs ? &srs : nullptr,
+                              grid.dimension == 3 ? wkbPoint25D : wkbPoint, nullptr);
     for (const auto& c : columns) {
       OGRFieldDefn f(c.c_str(), c == "neighbours" ? OFTInteger : OFTReal);
       layer->CreateField(&f);
     }
-    if (layer->StartTransaction() != OGRERR_NONE) throw std::runtime_error("cannot write " + out.temp_path());
+    if (layer->StartTransaction() != OGRERR_NONE)
+      throw std::runtime_error("cannot write " + out.temp_path());
   }
 
   std::vector<unsigned char> listed;
@@ -428,15 +462,18 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
   for (std::int64_t layer_index = 0; layer_index < grid.nz; ++layer_index) {
     // Rows ascend in y (south to north) in the table.
     auto node = [&](std::int64_t i) {
-      return Point{grid.x(i % grid.nx), grid.y(grid.ny - 1 - i / grid.nx), grid.dimension == 3 ? grid.z(layer_index) : 0.0};
+      return Point{grid.x(i % grid.nx), grid.y(grid.ny - 1 - i / grid.nx),
+                   grid.dimension == 3 ? grid.z(layer_index) : 0.0};
     };
     if (!listed.empty())
-      layer_listed.assign(listed.begin() + layer_index * per_layer, listed.begin() + (layer_index + 1) * per_layer);
-    krige_nodes(engine, per_layer, node, listed.empty() ? nullptr : &layer_listed, workspaces, block,
-                summary.threads);
+      layer_listed.assign(listed.begin() + layer_index * per_layer,
+                          listed.begin() + (layer_index + 1) * per_layer);
+    krige_nodes(engine, per_layer, node, listed.empty() ? nullptr : &layer_listed, workspaces,
+                block, summary.threads);
     tally(block, summary);
     for (std::int64_t i = 0; i < per_layer; ++i) {
-      if (!layer_listed.empty() && !layer_listed[static_cast<std::size_t>(i)]) continue;  // not listed
+      if (!layer_listed.empty() && !layer_listed[static_cast<std::size_t>(i)])
+        continue;  // not listed
       const NodeEstimate& e = block[static_cast<std::size_t>(i)];
       const NodeOutput o = engine.finish(e);
       if (e.ok()) {
@@ -447,7 +484,8 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
         empty_efficiency += !std::isfinite(o.efficiency);
       }
       const Point p = node(i);
-      std::vector<double> v = {p.x, p.y, p.z, o.estimate, o.variance, static_cast<double>(e.neighbours)};
+      std::vector<double> v = {p.x,        p.y,        p.z,
+                               o.estimate, o.variance, static_cast<double>(e.neighbours)};
       if (with_probability) v.push_back(o.probability);
       v.push_back(o.slope);
       v.push_back(o.efficiency);
@@ -455,16 +493,20 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
         for (std::size_t c = 0; c < v.size(); ++c) {
           if (c) csv << ",";
           if (c == 2 && grid.dimension == 2) continue;
-          if (c == 5) csv << e.neighbours;
-          else csv << detail::shortest(v[c]);
+          if (c == 5)
+            csv << e.neighbours;
+          else
+            csv << detail::shortest(v[c]);
         }
         csv << "\n";
       } else {
         OGRFeature f(layer->GetLayerDefn());
         for (std::size_t c = 0; c < v.size(); ++c) {
           if (c == 2 && grid.dimension == 2) continue;
-          if (c == 5) f.SetField(static_cast<int>(c), e.neighbours);
-          else if (std::isfinite(v[c])) f.SetField(static_cast<int>(c), v[c]);
+          if (c == 5)
+            f.SetField(static_cast<int>(c), e.neighbours);
+          else if (std::isfinite(v[c]))
+            f.SetField(static_cast<int>(c), v[c]);
         }
         OGRPoint pt(p.x, p.y);
         if (grid.dimension == 3) pt.setZ(p.z);
