@@ -3,10 +3,13 @@
 // The signal handler may only use async-signal-safe calls, so pending
 // temporary paths live in a fixed table of character buffers with an atomic
 // "in use" flag per slot; the handler unlinks every slot in use and _exits.
+#include <signal.h>
 #include <unistd.h>
 
 #include <array>
 #include <atomic>
+#include <cerrno>
+#include <chrono>
 #include <csignal>
 #include <cstdio>
 #include <cstring>
@@ -50,6 +53,41 @@ extern "C" void on_interrupt(int sig) {
   ::_exit(128 + sig);
 }
 
+// Temporaries of this output left by an earlier process that was killed
+// (SIGKILL, a power cut) are removed: those named for this output whose
+// process no longer runs on this machine and that have not been written to
+// for ten minutes (a folder shared over a network may hold a live one of
+// another machine's process).
+void remove_stale_temporaries(const std::filesystem::path& final_path) {
+  namespace fs = std::filesystem;
+  const fs::path folder = final_path.has_parent_path() ? final_path.parent_path() : fs::path(".");
+  const std::string prefix = "." + final_path.stem().string() + ".tmp-";
+  const std::string extension = final_path.extension().string();
+  std::error_code ec;
+  const auto now = fs::file_time_type::clock::now();
+  for (fs::directory_iterator it(folder, ec), end; !ec && it != end; it.increment(ec)) {
+    const std::string name = it->path().filename().string();
+    if (name.size() <= prefix.size() + extension.size() || name.rfind(prefix, 0) != 0 ||
+        name.compare(name.size() - extension.size(), extension.size(), extension) != 0)
+      continue;
+    // <pid>-<n> between the prefix and the extension, digits only.
+    const std::string middle =
+        name.substr(prefix.size(), name.size() - prefix.size() - extension.size());
+    const std::size_t dash = middle.find('-');
+    if (dash == 0 || dash == std::string::npos || dash > 9 ||
+        middle.find_first_not_of("0123456789-") != std::string::npos ||
+        middle.find('-', dash + 1) != std::string::npos || dash + 1 == middle.size())
+      continue;
+    const auto pid = static_cast<pid_t>(std::stol(middle.substr(0, dash)));
+    if (pid == ::getpid() || ::kill(pid, 0) == 0 || errno != ESRCH) continue;
+    std::error_code age_ec;
+    const auto written = fs::last_write_time(it->path(), age_ec);
+    if (age_ec || now - written < std::chrono::minutes(10)) continue;
+    if (!it->is_regular_file(age_ec)) continue;
+    fs::remove(it->path(), age_ec);
+  }
+}
+
 }  // namespace
 
 void check_output_path(const std::string& path, bool overwrite) {
@@ -72,6 +110,7 @@ PendingOutput::PendingOutput(std::string final_path, bool overwrite)
   check_output_path(final_, overwrite);
   namespace fs = std::filesystem;
   const fs::path p(final_);
+  remove_stale_temporaries(p);
   const std::string name = "." + p.stem().string() + ".tmp-" + std::to_string(::getpid()) + "-" +
                            std::to_string(g_counter.fetch_add(1)) + p.extension().string();
   temp_ = (p.has_parent_path() ? p.parent_path() / name : fs::path(name)).string();
@@ -95,7 +134,8 @@ PendingOutput::~PendingOutput() {
 void PendingOutput::commit() {
   std::error_code ec;
   std::filesystem::rename(temp_, final_, ec);
-  if (ec) throw std::runtime_error("cannot rename " + temp_ + " to " + final_ + ": " + ec.message());
+  if (ec)
+    throw std::runtime_error("cannot rename " + temp_ + " to " + final_ + ": " + ec.message());
   committed_ = true;
   unregister_temp(slot_);
   slot_ = -1;
