@@ -15,7 +15,9 @@ Running it twice with the same seed gives byte-identical output: only the
 standard library is used, the only source of randomness is
 random.Random(seed).random() (Mersenne Twister, stable across Python 3
 versions for an integer seed), and normal deviates come from an explicit
-Box-Muller transform instead of random.gauss()/normalvariate().
+Box-Muller transform instead of random.gauss()/normalvariate(). Those
+deviates and the spectral fields below come from demo-sites/demo_random.py,
+shared by the demo-site generators.
 
 How the values are built (per metal m, at location p, in natural-log units):
 
@@ -38,8 +40,12 @@ No linear algebra is needed.
 import argparse
 import math
 import os
-import random
 import sys
+
+# The seeded deviates and the spectral fields are shared by all the demo-site
+# generators: demo-sites/demo_random.py, one folder up.
+sys.path.insert(0, os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+from demo_random import Rng, matern1_field_2d
 
 DEFAULT_SEED = 20250310
 
@@ -121,59 +127,7 @@ HEADER = ("sample_id,easting,northing,depth_cm,lead_mg_kg,zinc_mg_kg,"
           "copper_mg_kg,sampled_on")
 
 
-# ------------------------------------------------------------------ randomness
-class Rng:
-    """Uniform and normal deviates from random.Random(seed).random() only."""
-
-    def __init__(self, seed):
-        self._r = random.Random(seed)
-        self._spare = None
-
-    def uniform(self, a=0.0, b=1.0):
-        return a + (b - a) * self._r.random()
-
-    def index(self, n):
-        """Integer in [0, n) from one uniform draw."""
-        i = int(self._r.random() * n)
-        return min(i, n - 1)
-
-    def normal(self):
-        """Standard normal deviate via the Box-Muller transform."""
-        if self._spare is not None:
-            z, self._spare = self._spare, None
-            return z
-        u1 = 1.0 - self._r.random()          # in (0, 1]: log() is safe
-        u2 = self._r.random()
-        r = math.sqrt(-2.0 * math.log(u1))
-        theta = 2.0 * math.pi * u2
-        self._spare = r * math.sin(theta)
-        return r * math.cos(theta)
-
-
-# ------------------------------------------------------------- random fields
-class SpectralField:
-    """Unit-variance stationary Gaussian field, Matern(smoothness 1) covariance."""
-
-    def __init__(self, rng, n_waves, scale):
-        self.waves = []
-        for _ in range(n_waves):
-            zx = rng.normal()
-            zy = rng.normal()
-            w = -2.0 * math.log(1.0 - rng.uniform())   # chi-square, 2 d.o.f.
-            w = max(w, 1e-12)
-            denom = scale * math.sqrt(w)
-            phase = rng.uniform(0.0, 2.0 * math.pi)
-            self.waves.append((zx / denom, zy / denom, phase))
-        self.norm = math.sqrt(2.0 / n_waves)
-
-    def __call__(self, x, y):
-        lx, ly = x - X0, y - Y0
-        total = 0.0
-        for kx, ky, phase in self.waves:
-            total += math.cos(kx * lx + ky * ly + phase)
-        return self.norm * total
-
-
+# ------------------------------------------------------- sources and fill
 def bump(spot, x, y):
     """Anisotropic Gaussian bump, 1 at the hot-spot centre."""
     a = math.radians(spot["angle"])
@@ -276,8 +230,10 @@ def fmt_metal(metal, v, rng):
 def generate(seed):
     rng = Rng(seed)
 
-    shared = SpectralField(rng, N_WAVES, MATERN_SCALE_L)
-    specific = {m: SpectralField(rng, N_WAVES, MATERN_SCALE_L) for m in METALS}
+    # Fields in site-local metres: scale MATERN_SCALE_L, origin (X0, Y0).
+    shared = matern1_field_2d(rng, N_WAVES, MATERN_SCALE_L, (X0, Y0))
+    specific = {m: matern1_field_2d(rng, N_WAVES, MATERN_SCALE_L, (X0, Y0))
+                for m in METALS}
 
     grid = grid_locations(rng)
     infill = infill_locations(rng, grid)
