@@ -25,7 +25,9 @@ Running it twice with the same seed gives byte-identical files: only the
 standard library is used, the only source of randomness is
 random.Random(seed).random() (Mersenne Twister, stable across Python 3
 versions for an integer seed), and normal deviates come from an explicit
-Box-Muller transform instead of random.gauss()/normalvariate().
+Box-Muller transform instead of random.gauss()/normalvariate(). Those
+deviates and the spectral fields come from demo-sites/demo_random.py,
+shared by the demo-site generators.
 
 How the values are built
 ------------------------
@@ -62,8 +64,12 @@ which the correlation is 0.05). No linear algebra is needed.
 import argparse
 import math
 import os
-import random
 import sys
+
+# The seeded deviates and the spectral fields are shared by all the demo-site
+# generators: demo-sites/demo_random.py, one folder up.
+sys.path.insert(0, os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+from demo_random import Rng, matern1_field_2d
 
 DEFAULT_SEED = 20250407
 
@@ -130,57 +136,17 @@ PRJ_WKT = (
     'UNIT["Meter",1.0]]')
 
 
-# ------------------------------------------------------------------ randomness
-class Rng:
-    """Uniform and normal deviates from random.Random(seed).random() only."""
-
-    def __init__(self, seed):
-        self._r = random.Random(seed)
-        self._spare = None
-
-    def uniform(self, a=0.0, b=1.0):
-        return a + (b - a) * self._r.random()
-
-    def normal(self):
-        """Standard normal deviate via the Box-Muller transform."""
-        if self._spare is not None:
-            z, self._spare = self._spare, None
-            return z
-        u1 = 1.0 - self._r.random()          # in (0, 1]: log() is safe
-        u2 = self._r.random()
-        r = math.sqrt(-2.0 * math.log(u1))
-        theta = 2.0 * math.pi * u2
-        self._spare = r * math.sin(theta)
-        return r * math.cos(theta)
-
-
 # ------------------------------------------------------------- random fields
-class Matern1Field:
+def matern1_field(rng, practical_range):
     """Unit-variance 2D field, Matern (smoothness 1) covariance, given
     practical range (correlation 0.05). Evaluated in km from the box centre
     so that the cosine arguments stay small."""
-
-    def __init__(self, rng, n_waves, practical_range):
-        theta_km = practical_range / MATERN1_T95 / 1000.0
-        self.waves = []
-        for _ in range(n_waves):
-            zx = rng.normal()
-            zy = rng.normal()
-            w = -2.0 * math.log(1.0 - rng.uniform())   # chi-square, 2 d.o.f.
-            w = max(w, 1e-12)
-            denom = theta_km * math.sqrt(w)
-            phase = rng.uniform(0.0, 2.0 * math.pi)
-            self.waves.append((zx / denom, zy / denom, phase))
-        self.norm = math.sqrt(2.0 / n_waves)
-
-    def __call__(self, x, y):
-        lx, ly = (x - CENTRE_X) / 1000.0, (y - CENTRE_Y) / 1000.0
-        total = 0.0
-        for kx, ky, phase in self.waves:
-            total += math.cos(kx * lx + ky * ly + phase)
-        return self.norm * total
+    theta_km = practical_range / MATERN1_T95 / 1000.0
+    return matern1_field_2d(rng, N_WAVES, theta_km, (CENTRE_X, CENTRE_Y),
+                            unit=1000.0)
 
 
+# ------------------------------------------------------------------ trends
 def along_gradient_km(x, y):
     """Distance (km) from the box centre along GRADIENT_AZ."""
     a = math.radians(GRADIENT_AZ)
@@ -264,9 +230,9 @@ def route_order(pts):
 # --------------------------------------------------------------------- main
 def generate(seed):
     rng = Rng(seed)
-    hills = Matern1Field(rng, N_WAVES, GROUND_HILLS_RANGE)
-    rough = Matern1Field(rng, N_WAVES, GROUND_ROUGH_RANGE)
-    residual = Matern1Field(rng, N_WAVES, RESIDUAL_RANGE)
+    hills = matern1_field(rng, GROUND_HILLS_RANGE)
+    rough = matern1_field(rng, GROUND_ROUGH_RANGE)
+    residual = matern1_field(rng, RESIDUAL_RANGE)
     raster = make_raster(hills, rough)
 
     wells = route_order(well_locations(rng))
