@@ -28,7 +28,9 @@ Running it twice with the same seed gives byte-identical files: only the
 standard library is used, the only source of randomness is
 random.Random(seed).random() (Mersenne Twister, stable across Python 3
 versions for an integer seed), and normal deviates come from an explicit
-Box-Muller transform instead of random.gauss()/normalvariate().
+Box-Muller transform instead of random.gauss()/normalvariate(). Those
+deviates and the spectral field F come from demo-sites/demo_random.py,
+shared by the demo-site generators.
 
 How the values are built
 ------------------------
@@ -71,8 +73,12 @@ scatter (sd 0.04 and 0.03), rounded to 0.01.
 import argparse
 import math
 import os
-import random
 import sys
+
+# The seeded deviates and the spectral fields are shared by all the demo-site
+# generators: demo-sites/demo_random.py, one folder up.
+sys.path.insert(0, os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+from demo_random import Rng, exponential_field_3d
 
 DEFAULT_SEED = 20250607
 
@@ -132,30 +138,6 @@ BLOCKS_HEADER = "x,y,z,lode_fraction,true_au_gpt"
 FILES = ("samples.csv", "collars.csv", "lode_blocks.csv")
 
 
-# ------------------------------------------------------------------ randomness
-class Rng:
-    """Uniform and normal deviates from random.Random(seed).random() only."""
-
-    def __init__(self, seed):
-        self._r = random.Random(seed)
-        self._spare = None
-
-    def uniform(self, a=0.0, b=1.0):
-        return a + (b - a) * self._r.random()
-
-    def normal(self):
-        """Standard normal deviate via the Box-Muller transform."""
-        if self._spare is not None:
-            z, self._spare = self._spare, None
-            return z
-        u1 = 1.0 - self._r.random()          # in (0, 1]: log() is safe
-        u2 = self._r.random()
-        r = math.sqrt(-2.0 * math.log(u1))
-        theta = 2.0 * math.pi * u2
-        self._spare = r * math.sin(theta)
-        return r * math.cos(theta)
-
-
 # ------------------------------------------------------------------ geometry
 def unit(az_deg, dip_deg):
     """Unit vector (east, north, up) of a line of azimuth az, dip (+ = down)."""
@@ -204,46 +186,22 @@ def topography(x, y):
 
 
 # ------------------------------------------------------------- random field
-class AnisotropicExponentialField:
-    """Unit-variance 3D field with covariance exp(-r), spectral method.
+def grade_field(rng):
+    """Unit-variance 3D field F with covariance exp(-r), spectral method.
 
     r is the distance after rotating a lag into the axes (strike, down-dip,
     normal to the lens) and dividing by the scales a_i / 3, a_i the practical
-    ranges. Wavevectors (in reduced units) are Student-t with 1 degree of
-    freedom: k = z / |n|.
+    ranges FIELD_RANGES; the field is evaluated in metres from the lens
+    centre (LENS_X, LENS_Y, LENS_RL).
     """
-
-    def __init__(self, rng, n_waves, ranges):
-        d = math.radians(DIP)
-        # Axes in (east, north, up): strike; down-dip (azimuth 125, dipping
-        # DIP); the normal to the lens, which completes the frame.
-        a1 = STRIKE
-        a2 = (ACROSS[0] * math.cos(d), ACROSS[1] * math.cos(d), -math.sin(d))
-        a3 = (ACROSS[0] * math.sin(d), ACROSS[1] * math.sin(d), math.cos(d))
-        scales = [r / 3.0 for r in ranges]
-        self.rows = [tuple(c / s for c in axis)
-                     for axis, s in zip((a1, a2, a3), scales)]
-        self.waves = []
-        for _ in range(n_waves):
-            z = (rng.normal(), rng.normal(), rng.normal())
-            n = abs(rng.normal())
-            n = max(n, 1e-9)
-            phase = rng.uniform(0.0, 2.0 * math.pi)
-            k = [c / n for c in z]
-            # Fold the rotation and scaling into the wavevector once:
-            # k . (R p) = (R^T k) . p
-            kx = sum(k[i] * self.rows[i][0] for i in range(3))
-            ky = sum(k[i] * self.rows[i][1] for i in range(3))
-            kz = sum(k[i] * self.rows[i][2] for i in range(3))
-            self.waves.append((kx, ky, kz, phase))
-        self.norm = math.sqrt(2.0 / n_waves)
-
-    def __call__(self, x, y, z):
-        lx, ly, lz = x - LENS_X, y - LENS_Y, z - LENS_RL
-        total = 0.0
-        for kx, ky, kz, phase in self.waves:
-            total += math.cos(kx * lx + ky * ly + kz * lz + phase)
-        return self.norm * total
+    d = math.radians(DIP)
+    # Axes in (east, north, up): strike; down-dip (azimuth 125, dipping
+    # DIP); the normal to the lens, which completes the frame.
+    a1 = STRIKE
+    a2 = (ACROSS[0] * math.cos(d), ACROSS[1] * math.cos(d), -math.sin(d))
+    a3 = (ACROSS[0] * math.sin(d), ACROSS[1] * math.sin(d), math.cos(d))
+    return exponential_field_3d(rng, N_WAVES, (a1, a2, a3), FIELD_RANGES,
+                                (LENS_X, LENS_Y, LENS_RL))
 
 
 # -------------------------------------------------------------------- holes
@@ -367,7 +325,7 @@ def composite_groups(intervals):
 # --------------------------------------------------------------------- main
 def generate(seed):
     rng = Rng(seed)
-    field = AnisotropicExponentialField(rng, N_WAVES, FIELD_RANGES)
+    field = grade_field(rng)
     holes = plan_holes(rng)
 
     sample_lines = [SAMPLES_HEADER]
