@@ -14,6 +14,7 @@
 #include <chrono>
 #include <cmath>
 #include <cstdint>
+#include <cstring>
 #include <limits>
 #include <sstream>
 
@@ -224,60 +225,73 @@ std::int32_t class_of(double d, const std::vector<double>& edges) {
   return static_cast<std::int32_t>(above - edges.begin()) - 1;
 }
 
+// The sums of one class in the common case are four doubles: distance,
+// squared difference, count (exact in a double up to 2^53) and a pad; a pair
+// is added to them as one vector (unaligned loads and stores, through memcpy).
+typedef double Four __attribute__((vector_size(32)));
+constexpr std::size_t kWidth = 4;
+
+// Adds the m pairs of one run, as pair_distances() left them, to `sums`
+// (kCopies copies of `bins` classes, the last bin of each taking what is no
+// pair): pair t goes to copy t % 4, so that successive pairs of one class do
+// not wait on each other.
+constexpr std::size_t kCopies = 4;
+#if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__)
+__attribute__((target_clones("avx2", "default")))
+#endif
+void add_run(double* __restrict sums, std::size_t bins, const double* __restrict distance,
+             const double* __restrict squared, const std::int32_t* __restrict klass,
+             std::size_t m, const std::vector<double>& edges) {
+  auto one = [&](std::size_t t, double* __restrict copy) {
+    std::int32_t k = klass[t];
+    if (__builtin_expect(k == kNearEdge, 0)) k = class_of(distance[t], edges);
+    double* at = copy + kWidth * static_cast<std::size_t>(k);
+    Four sum;
+    std::memcpy(&sum, at, sizeof sum);
+    const Four pair = {distance[t], squared[t], 1.0, 0.0};
+    sum += pair;
+    std::memcpy(at, &sum, sizeof sum);
+  };
+  const std::size_t stride = kWidth * bins;
+  std::size_t t = 0;
+  for (; t + kCopies <= m; t += kCopies) {
+    one(t, sums);
+    one(t + 1, sums + stride);
+    one(t + 2, sums + 2 * stride);
+    one(t + 3, sums + 3 * stride);
+  }
+  for (; t < m; ++t) one(t, sums + (t % kCopies) * stride);
+}
+
 // Counts, distance sums and squared-difference sums by class for the common
-// case (one direction, Matheron, no surface), without branches. Pair t of a
-// run goes to copy t % 4 of the sums, so that successive pairs of one class
-// do not wait on each other; the copies are added in a fixed order. Bin
-// `classes` takes what is no pair and is dropped.
+// case (one direction, Matheron, no surface), without branches; the copies
+// are added in a fixed order.
 class PlainSums {
  public:
   explicit PlainSums(std::size_t classes)
-      : classes_(classes), bins_(classes + 1), sums_(kCopies * bins_) {}
+      : classes_(classes), bins_(classes + 1), sums_(kCopies * bins_ * kWidth) {}
 
-  void clear() { std::fill(sums_.begin(), sums_.end(), Bin{}); }
+  void clear() { std::fill(sums_.begin(), sums_.end(), 0.0); }
 
-  // Adds the m pairs of one run, as pair_distances() left them.
-  void add(const double* __restrict distance, const double* __restrict squared,
-           const std::int32_t* __restrict klass, std::size_t m, const std::vector<double>& edges) {
-    const std::size_t bins = bins_;
-    Bin* __restrict sums = sums_.data();
-    auto one = [&](std::size_t t, Bin* __restrict copy) {
-      std::int32_t k = klass[t];
-      if (__builtin_expect(k == kNearEdge, 0)) k = class_of(distance[t], edges);
-      Bin& b = copy[k];
-      b.n += 1;
-      b.distance += distance[t];
-      b.squared += squared[t];
-    };
-    std::size_t t = 0;
-    for (; t + kCopies <= m; t += kCopies) {
-      one(t, sums);
-      one(t + 1, sums + bins);
-      one(t + 2, sums + 2 * bins);
-      one(t + 3, sums + 3 * bins);
-    }
-    for (; t < m; ++t) one(t, sums + (t % kCopies) * bins);
+  void add(const double* distance, const double* squared, const std::int32_t* klass, std::size_t m,
+           const std::vector<double>& edges) {
+    add_run(sums_.data(), bins_, distance, squared, klass, m, edges);
   }
 
   // Adds the sums of every class into `out` (one Sums per class).
   void add_to(std::vector<Sums>& out) const {
     for (std::size_t c = 0; c < kCopies; ++c)
       for (std::size_t k = 0; k < classes_; ++k) {
-        const Bin& b = sums_[c * bins_ + k];
-        out[k].n += b.n;
-        out[k].distance += b.distance;
-        out[k].squared += b.squared;
+        const double* b = sums_.data() + (c * bins_ + k) * kWidth;
+        out[k].distance += b[0];
+        out[k].squared += b[1];
+        out[k].n += static_cast<std::uint64_t>(b[2]);
       }
   }
 
  private:
-  struct Bin {
-    double distance = 0, squared = 0;
-    std::uint64_t n = 0;
-  };
-  static constexpr std::size_t kCopies = 4;
   std::size_t classes_, bins_;
-  std::vector<Bin> sums_;  // kCopies copies of bins_ bins
+  std::vector<double> sums_;  // kCopies copies of bins_ bins of kWidth sums
 };
 
 // Per-chunk (and total) accumulators: one Sums per direction and class, and
