@@ -21,6 +21,9 @@ struct RasterLayout {
   double nodata = -9999.0;                    ///< written for masked or unestimable cells
   std::string format = "GTiff";               ///< any GDAL raster driver that supports Create()
   std::vector<std::pair<std::string, std::string>> metadata;  ///< dataset metadata items
+  /// Threads GDAL may use to compress GeoTIFF tiles (its NUM_THREADS);
+  /// the file is the same byte for byte for any count.
+  int threads = 1;
 };
 
 /// Bytes the raster would take uncompressed (Float64 cells), for refusing

@@ -145,12 +145,14 @@ std::vector<unsigned char> listed_blocks(const std::string& path, const GridSpec
   return keep;
 }
 
-// Krigs `count` nodes given by `node(i) -> Point`, in parallel, into `out`.
-template <class NodeAt>
+// Krigs `count` nodes given by `node(i) -> Point`, in parallel, into `out`;
+// `chunk_done(first, last)` runs on the same thread after each chunk of
+// nodes [first, last) (e.g. to convert them for writing).
+template <class NodeAt, class ChunkDone>
 void krige_nodes(const KrigingEngine& engine, std::int64_t count, const NodeAt& node,
                  const std::vector<unsigned char>* inside,
                  std::vector<std::unique_ptr<KrigingEngine::Workspace>>& workspaces,
-                 std::vector<NodeEstimate>& out, int threads) {
+                 std::vector<NodeEstimate>& out, int threads, const ChunkDone& chunk_done) {
   out.resize(static_cast<std::size_t>(count));
   const bool external = !engine.options().external_drift.empty();
   // Chunks of consecutive nodes (along a row) share neighbour sets, and the
@@ -168,7 +170,8 @@ void krige_nodes(const KrigingEngine& engine, std::int64_t count, const NodeAt& 
 #pragma omp for schedule(dynamic, 1)
     for (std::int64_t c = 0; c < chunks; ++c) {
       ws.restart();
-      for (std::int64_t i = c * kChunk; i < std::min(count, (c + 1) * kChunk); ++i) {
+      const std::int64_t first = c * kChunk, last = std::min(count, (c + 1) * kChunk);
+      for (std::int64_t i = first; i < last; ++i) {
         NodeEstimate& e = out[static_cast<std::size_t>(i)];
         if (inside && !(*inside)[static_cast<std::size_t>(i)]) {
           e = NodeEstimate{};
@@ -178,6 +181,7 @@ void krige_nodes(const KrigingEngine& engine, std::int64_t count, const NodeAt& 
         const Point p = node(i);
         e = engine.estimate(p, ws, -1, external ? engine.external_at(p) : 0.0);
       }
+      chunk_done(first, last);
     }
   }
 }
@@ -327,6 +331,7 @@ KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
   layout.nodata = target.nodata;
   layout.metadata = target.metadata;
   layout.format = raster_driver_for(target.path, target.format);
+  layout.threads = thread_count(engine.options().threads);
 
   std::unique_ptr<Mask> mask;
   if (!target.mask.empty()) mask = std::make_unique<Mask>(target.mask, grid);
@@ -342,37 +347,37 @@ KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
   const std::int64_t block_rows = std::max<std::int64_t>(
       1, std::min<std::int64_t>(256, (1 << 22) / std::max<std::int64_t>(grid.nx, 1)));
   // Two sets of buffers: while the threads krige one block, the previous one
-  // is back-transformed, compressed and written on another thread (GDAL
-  // compresses on the calling thread), so writing does not leave the
-  // kriging threads idle (with --threads 1 it is written in line). Memory
-  // stays bounded: two blocks, and GDAL's cache flushed at every tile row.
+  // is written on another thread (GDAL compresses the tiles on its own
+  // worker threads, layout.threads), so writing does not leave the
+  // kriging threads idle (with --threads 1 it is written in line). The
+  // kriging threads back-transform each chunk of nodes into the bands as
+  // they finish it. Memory stays bounded: two blocks, and GDAL's cache
+  // flushed at every tile row.
+  const std::size_t band_count = layout.bands.size();
   struct Buffers {
     std::vector<NodeEstimate> block;
-    std::vector<NodeOutput> values;
-    std::vector<double> band;
+    std::vector<double> bands[3];
+    std::vector<unsigned char> non_finite;  // estimated, but a value is not finite
   } buffers[2];
   std::vector<unsigned char> inside;
+  auto convert = [&](Buffers& b, std::int64_t first, std::int64_t last) {
+    for (auto i = static_cast<std::size_t>(first); i < static_cast<std::size_t>(last); ++i) {
+      const NodeOutput v = engine.finish(b.block[i]);
+      b.non_finite[i] =
+          b.block[i].ok() && (!std::isfinite(v.estimate) || !std::isfinite(v.variance) ||
+                              (with_probability && !std::isfinite(v.probability)));
+      b.bands[0][i] = std::isfinite(v.estimate) ? v.estimate : target.nodata;
+      b.bands[1][i] = std::isfinite(v.variance) ? v.variance : target.nodata;
+      if (with_probability)
+        b.bands[2][i] = std::isfinite(v.probability) ? v.probability : target.nodata;
+    }
+  };
   auto write_block = [&](Buffers& b, std::int64_t row0, std::int64_t rows) {
     tally(b.block, summary);
-    b.values.resize(b.block.size());
-    for (std::size_t i = 0; i < b.block.size(); ++i) {
-      b.values[i] = engine.finish(b.block[i]);
-      const NodeOutput& v = b.values[i];
-      if (b.block[i].ok() && (!std::isfinite(v.estimate) || !std::isfinite(v.variance) ||
-                              (with_probability && !std::isfinite(v.probability))))
-        ++summary.non_finite;  // written as nodata, and counted in a warning
-    }
-    b.band.resize(b.block.size());
-    auto write = [&](int index, double NodeOutput::*field) {
-      for (std::size_t i = 0; i < b.values.size(); ++i) {
-        const double v = b.values[i].*field;
-        b.band[i] = std::isfinite(v) ? v : target.nodata;
-      }
-      writer.write_rows(index, row0, rows, b.band.data());
-    };
-    write(0, &NodeOutput::estimate);
-    write(1, &NodeOutput::variance);
-    if (with_probability) write(2, &NodeOutput::probability);
+    for (unsigned char f : b.non_finite)
+      summary.non_finite += f;  // written as nodata, and warned of
+    for (std::size_t band = 0; band < band_count; ++band)
+      writer.write_rows(static_cast<int>(band), row0, rows, b.bands[band].data());
     if ((row0 + rows) % 256 == 0 || row0 + rows == grid.ny) writer.flush();
   };
   std::future<void> pending;
@@ -381,12 +386,16 @@ KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
     const std::int64_t rows = std::min(block_rows, grid.ny - row0);
     if (mask) mask->rows(grid, row0, rows, inside);
     Buffers& b = buffers[current];
+    const auto nodes = static_cast<std::size_t>(grid.nx * rows);
+    b.non_finite.resize(nodes);
+    for (std::size_t band = 0; band < band_count; ++band) b.bands[band].resize(nodes);
     krige_nodes(
         engine, grid.nx * rows,
         [&](std::int64_t i) {
           return Point{grid.x(i % grid.nx), grid.y(row0 + i / grid.nx), 0};
         },
-        mask ? &inside : nullptr, workspaces, b.block, summary.threads);
+        mask ? &inside : nullptr, workspaces, b.block, summary.threads,
+        [&](std::int64_t first, std::int64_t last) { convert(b, first, last); });
     if (pending.valid()) pending.get();  // the previous block is written (or throws)
     if (progress && row0 > 0) progress(static_cast<double>(row0) / static_cast<double>(grid.ny));
     // With one thread asked for, one thread it is: write in line.
@@ -469,7 +478,7 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
       layer_listed.assign(listed.begin() + layer_index * per_layer,
                           listed.begin() + (layer_index + 1) * per_layer);
     krige_nodes(engine, per_layer, node, listed.empty() ? nullptr : &layer_listed, workspaces,
-                block, summary.threads);
+                block, summary.threads, [](std::int64_t, std::int64_t) {});
     tally(block, summary);
     for (std::int64_t i = 0; i < per_layer; ++i) {
       if (!layer_listed.empty() && !layer_listed[static_cast<std::size_t>(i)])

@@ -6,7 +6,53 @@
 
 #include "core/point_index.hpp"
 
+#if defined(__SSE2__)
+#include <emmintrin.h>
+#endif
+
 namespace sillstone {
+namespace {
+
+// The largest d2[i] with chosen[i] = 1 (-1 if none) and the smallest d2[i]
+// + far chosen[i] (the smallest unchosen distance, or at least `far`).
+// Arithmetic instead of selects: chosen is 1 or 0 and distances are finite
+// and >= 0. Four running extremes held in registers (the compiler's own
+// vectorised reduction kept its two in memory, a store and a reload per
+// pass that cost more than the arithmetic); a maximum or minimum is exact,
+// so the order of the comparisons does not change the result.
+inline void boundary(const double* d2, const double* chosen, std::size_t m, double far,
+                     double& max_in, double& min_out) {
+  std::size_t i = 0;
+#if defined(__SSE2__)
+  const __m128d one = _mm_set1_pd(1.0), far2 = _mm_set1_pd(far);
+  __m128d hi0 = _mm_set1_pd(-1.0), hi1 = hi0;
+  __m128d lo0 = _mm_set1_pd(std::numeric_limits<double>::infinity()), lo1 = lo0;
+  for (; i + 4 <= m; i += 4) {
+    const __m128d d0 = _mm_loadu_pd(d2 + i), c0 = _mm_loadu_pd(chosen + i);
+    const __m128d d1 = _mm_loadu_pd(d2 + i + 2), c1 = _mm_loadu_pd(chosen + i + 2);
+    hi0 = _mm_max_pd(hi0, _mm_sub_pd(_mm_mul_pd(d0, c0), _mm_sub_pd(one, c0)));
+    hi1 = _mm_max_pd(hi1, _mm_sub_pd(_mm_mul_pd(d1, c1), _mm_sub_pd(one, c1)));
+    lo0 = _mm_min_pd(lo0, _mm_add_pd(d0, _mm_mul_pd(c0, far2)));
+    lo1 = _mm_min_pd(lo1, _mm_add_pd(d1, _mm_mul_pd(c1, far2)));
+  }
+  const __m128d hi = _mm_max_pd(hi0, hi1), lo = _mm_min_pd(lo0, lo1);
+  double h[2], l[2];
+  _mm_storeu_pd(h, hi);
+  _mm_storeu_pd(l, lo);
+  max_in = std::max(h[0], h[1]);
+  min_out = std::min(l[0], l[1]);
+#else
+  max_in = -1;
+  min_out = std::numeric_limits<double>::infinity();
+#endif
+  for (; i < m; ++i) {
+    const double d = d2[i], c = chosen[i];
+    max_in = std::max(max_in, d * c - (1 - c));
+    min_out = std::min(min_out, d + c * far);
+  }
+}
+
+}  // namespace
 
 bool NeighbourhoodOptions::is_valid(int dimension, std::string* why) const {
   auto fail = [why](const std::string& text) {
@@ -193,11 +239,20 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
       const double* cy = ws.cy.data();
       const double* cz = ws.cz.data();
       double* d2 = ws.d2.data();
+      // Two loops, not one with a conditional load of z, which kept GCC
+      // from vectorising it. (In 2D, adding dz * dz = 0 changed nothing.)
+      if (three) {
 #pragma omp simd
-      for (std::size_t i = 0; i < m; ++i) {
-        const double dx = q.x - cx[i], dy = q.y - cy[i];
-        const double dz = three ? q.z - cz[i] : 0.0;
-        d2[i] = dx * dx + dy * dy + dz * dz;
+        for (std::size_t i = 0; i < m; ++i) {
+          const double dx = q.x - cx[i], dy = q.y - cy[i], dz = q.z - cz[i];
+          d2[i] = dx * dx + dy * dy + dz * dz;
+        }
+      } else {
+#pragma omp simd
+        for (std::size_t i = 0; i < m; ++i) {
+          const double dx = q.x - cx[i], dy = q.y - cy[i];
+          d2[i] = dx * dx + dy * dy;
+        }
       }
     }
     if (exclude >= 0) {
@@ -221,18 +276,11 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
     bool settled = false;
     if (ws.chosen.size() == m && ws.chosen_count == k && k > 0 && k < m) {
       for (int swaps = 0; swaps < 4; ++swaps) {
-        double max_in = -1, min_out = std::numeric_limits<double>::infinity();
+        double max_in, min_out;
         const double* d2 = ws.d2.data();
         const double* chosen = ws.chosen.data();
-        // Arithmetic instead of selects, so that the loop vectorises:
-        // chosen is 1 or 0 and distances are finite and >= 0.
         constexpr double kFar = 1e300;
-#pragma omp simd reduction(max : max_in) reduction(min : min_out)
-        for (std::size_t i = 0; i < m; ++i) {
-          const double d = d2[i], c = chosen[i];
-          max_in = std::max(max_in, d * c - (1 - c));
-          min_out = std::min(min_out, d + c * kFar);
-        }
+        boundary(d2, chosen, m, kFar, max_in, min_out);
         if (!(min_out < kFar)) min_out = std::numeric_limits<double>::infinity();
         if (max_in < min_out) {  // strictly: no tie at the boundary
           kth2 = max_in;

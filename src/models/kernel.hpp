@@ -56,6 +56,11 @@ class CovarianceKernel {
   };
   std::vector<Shape> shapes_;
   std::vector<Term> terms_;  // in the model's order
+  // A nugget (or none) and one spherical or cubic structure, isotropic:
+  // evaluated in one pass (kernel.cpp, one_structure).
+  bool fast_ = false;
+  Family fast_family_ = Family::spherical;
+  double fast_sill_ = 0, fast_inverse_range_ = 0, fast_nugget_ = 0;
 
   void distances(const Shape& s, std::size_t count, const double* dx, const double* dy,
                  const double* dz, double* h) const;

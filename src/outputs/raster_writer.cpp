@@ -5,6 +5,7 @@
 #include <cctype>
 #include <filesystem>
 #include <mutex>
+#include <string>
 
 #include "sillstone/error.hpp"
 #include "sillstone/raster.hpp"
@@ -60,6 +61,11 @@ RasterWriter::RasterWriter(const std::string& path, const RasterLayout& layout)
     // cost on sparse data (docs/performance.md).
     options = CSLSetNameValue(options, "ZLEVEL", "1");
     options = CSLSetNameValue(options, "BIGTIFF", "IF_SAFER");
+    // Tiles compressed on GDAL's worker threads, written in the order they
+    // were queued: the same bytes as on one thread. Without them the last
+    // tile row is compressed on one thread after all kriging is done.
+    if (layout.threads > 1)
+      options = CSLSetNameValue(options, "NUM_THREADS", std::to_string(layout.threads).c_str());
   }
   impl_->ds.reset(driver->Create(path.c_str(), static_cast<int>(g.nx), static_cast<int>(g.ny),
                                  static_cast<int>(layout.bands.size()), GDT_Float64, options));

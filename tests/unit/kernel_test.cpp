@@ -20,6 +20,8 @@ TEST_CASE("the covariance kernel equals CovarianceModel::covariance to rounding"
       "ratio2=0.5)",
       "0.3 nugget + 1 matern(range=500, nu=1.5) + 2 cubic(range=250)",
       "0.1 nugget + 0.9 spherical(range=1500)",
+      "1.5 cubic(range=300) + 0.05 nugget",
+      "2 spherical(range=100)",
   };
   std::mt19937_64 rng(11);  // fixed seed
   std::uniform_real_distribution<double> lag(-1200, 1200);

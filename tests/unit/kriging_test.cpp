@@ -489,6 +489,14 @@ TEST_CASE("engine warnings: few samples, one line, equal values, near-duplicates
     // A nugget makes the pair ordinary: the model no longer correlates them perfectly.
     const KrigingEngine n(make_set(pts, z), parse_model_spec("0.1 nugget + 1 spherical(range=50)"), {}, global());
     CHECK_FALSE(has(n, "near-duplicates"));
+    // With a nugget, samples at one location are still near-duplicates (a
+    // sort finds them; the nearest-neighbour pass then names them).
+    std::vector<Point> same = pts;
+    same.back() = pts[4];
+    const KrigingEngine d(make_set(same, z), parse_model_spec("0.1 nugget + 1 spherical(range=50)"),
+                          {}, global());
+    CHECK(has(d, "1 pair(s) of samples are near-duplicates"));
+    CHECK(has(d, "line 6 and line 14, 0 apart"));
   }
 }
 
