@@ -14,6 +14,7 @@ packages=(
   catch2                               # unit tests (v2)
   python3 python3-numpy python3-scipy python3-sklearn python3-gdal  # reference checks
   chromium                             # the report's browser check
+  time                                 # benchmarks: CPU time and peak memory (GNU time)
   clang libclang-rt-14-dev             # fuzzing: clang-14's libFuzzer, ASan and UBSan runtimes (scripts/fuzz.sh)
 )
 
