@@ -25,9 +25,10 @@ namespace sillstone {
 struct UnivariateStats {
   std::size_t count = 0;
   double mean = 0;
-  double sd = 0;        ///< sample standard deviation, divisor n - 1
-  double cv = 0;        ///< sd / mean (NaN when the mean is 0)
-  double min = 0, q1 = 0, median = 0, q3 = 0, max = 0;  ///< quartiles: linear interpolation (type 7)
+  double sd = 0;  ///< sample standard deviation, divisor n - 1
+  double cv = 0;  ///< sd / mean (NaN when the mean is 0)
+  double min = 0, q1 = 0, median = 0, q3 = 0,
+         max = 0;       ///< quartiles: linear interpolation (type 7)
   double skewness = 0;  ///< Fisher-Pearson moment coefficient g1 = m3 / m2^(3/2)
 };
 
@@ -41,9 +42,9 @@ double quantile_sorted(const std::vector<double>& sorted, double p);
 
 /// Options of cell declustering.
 struct DeclusteringOptions {
-  double cell = 0;     ///< cell size in CRS units; 0: scan sizes and choose (see docs)
-  int sizes = 24;      ///< number of cell sizes scanned when cell == 0
-  int offsets = 4;     ///< grid origins averaged for each size (diagonal shifts of cell/offsets)
+  double cell = 0;  ///< cell size in CRS units; 0: scan sizes and choose (see docs)
+  int sizes = 24;   ///< number of cell sizes scanned when cell == 0
+  int offsets = 4;  ///< grid origins averaged for each size (diagonal shifts of cell/offsets)
   bool is_valid(std::string* why) const;
 };
 
@@ -65,17 +66,24 @@ DeclusteringResult decluster(const std::vector<Point>& points, const std::vector
 struct SpacingStats {
   std::size_t count = 0;
   double min = 0, median = 0, mean = 0, max = 0;
+  /// Samples whose nearest neighbour is closer than kNearFraction of the
+  /// median spacing (but not at the same place): repeated samples or
+  /// coordinate typos, which kriging treats as almost one point.
+  static constexpr double kNearFraction = 0.01;
+  std::size_t near = 0;
+  /// The closest such pair (indices into the points given), if any.
+  std::size_t closest_a = 0, closest_b = 0;
 };
 SpacingStats nearest_neighbour_spacing(const std::vector<Point>& points, int dimension);
 
 /// A suggested set of lag classes for the empirical variogram.
 struct LagAdvice {
-  double lag = 0;               ///< class width W
-  int lags = 0;                 ///< number of classes N: (i W, (i+1) W], i = 0..N-1
-  double max_distance = 0;      ///< N W
-  std::size_t min_pairs = 0;    ///< fewest pairs in any class (estimated when sampled)
-  bool pairs_estimated = false; ///< true when counted on a subsample and scaled
-  std::string rule;             ///< the rules of thumb applied, in words
+  double lag = 0;                ///< class width W
+  int lags = 0;                  ///< number of classes N: (i W, (i+1) W], i = 0..N-1
+  double max_distance = 0;       ///< N W
+  std::size_t min_pairs = 0;     ///< fewest pairs in any class (estimated when sampled)
+  bool pairs_estimated = false;  ///< true when counted on a subsample and scaled
+  std::string rule;              ///< the rules of thumb applied, in words
 };
 LagAdvice suggest_lags(const std::vector<Point>& points, int dimension, double typical_spacing);
 
@@ -104,7 +112,7 @@ struct DataSummary {
   std::vector<DeclusteringResult> declustered;
   SpacingStats spacing;
   LagAdvice lags;
-  PairwiseMoments moments;  ///< filled when there are several variables
+  PairwiseMoments moments;            ///< filled when there are several variables
   std::vector<std::string> warnings;  ///< the loader's and the summary's
 };
 

@@ -2,6 +2,7 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdint>
+#include <limits>
 #include <sstream>
 
 #include "core/point_index.hpp"
@@ -31,6 +32,7 @@ SpacingStats nearest_neighbour_spacing(const std::vector<Point>& points, int dim
   if (points.size() < 2) return s;
   detail::PointIndex index(points, dimension);
   std::vector<double> nn(points.size());
+  std::vector<std::uint32_t> partner(points.size(), 0);
   for (std::size_t i = 0; i < points.size(); ++i) {
     const double q[3] = {points[i].x, points[i].y, points[i].z};
     std::uint32_t idx[2];
@@ -38,6 +40,7 @@ SpacingStats nearest_neighbour_spacing(const std::vector<Point>& points, int dim
     const std::size_t found = index.nearest(q, 2, idx, d);
     // The query point itself is among the two; the other one is the neighbour.
     nn[i] = found < 2 ? 0.0 : (idx[0] == i ? d[1] : d[0]);
+    partner[i] = found < 2 ? 0 : (idx[0] == i ? idx[1] : idx[0]);
   }
   std::vector<double> sorted = nn;
   std::sort(sorted.begin(), sorted.end());
@@ -48,11 +51,22 @@ SpacingStats nearest_neighbour_spacing(const std::vector<Point>& points, int dim
   double sum = 0;
   for (double d : nn) sum += d;
   s.mean = sum / static_cast<double>(nn.size());
+  const double limit = SpacingStats::kNearFraction * s.median;
+  double closest = std::numeric_limits<double>::infinity();
+  for (std::size_t i = 0; i < nn.size(); ++i) {
+    if (!(nn[i] > 0 && nn[i] < limit)) continue;
+    ++s.near;
+    if (nn[i] < closest) {
+      closest = nn[i];
+      s.closest_a = std::min<std::size_t>(i, partner[i]);
+      s.closest_b = std::max<std::size_t>(i, partner[i]);
+    }
+  }
   return s;
 }
 
 LagAdvice suggest_lags(const std::vector<Point>& points, int dimension, double typical_spacing) {
-  constexpr std::size_t kMinPairs = 30;   // common practice (Journel & Huijbregts 1978, from memory)
+  constexpr std::size_t kMinPairs = 30;  // common practice (Journel & Huijbregts 1978, from memory)
   constexpr int kMaxLags = 25;
   constexpr int kMinLags = 5;
   constexpr std::size_t kMaxCounted = 2000;  // above this, pairs are counted on a subsample

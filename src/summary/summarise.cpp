@@ -1,5 +1,6 @@
 #include <algorithm>
 #include <cmath>
+#include <sstream>
 
 #include "sillstone/error.hpp"
 #include "sillstone/summary.hpp"
@@ -33,13 +34,14 @@ DataSummary summarise(const SampleSet& samples, const SummaryOptions& options) {
 
   for (std::size_t v = 0; v < samples.values.size(); ++v) {
     const auto& column = samples.values[v];
-    const bool any = std::any_of(column.begin(), column.end(), [](double x) { return !std::isnan(x); });
+    const bool any =
+        std::any_of(column.begin(), column.end(), [](double x) { return !std::isnan(x); });
     if (!any)
       throw InputError("summary", samples.source + ": column '" + samples.value_names[v] +
                                       "' has no usable value");
     s.stats.push_back(describe(column));
-    s.declustered.push_back(decluster(samples.points, column, samples.dimension,
-                                      options.declustering));
+    s.declustered.push_back(
+        decluster(samples.points, column, samples.dimension, options.declustering));
     const auto& st = s.stats.back();
     if (st.count > 1 && !(st.sd > 0))
       s.warnings.push_back("all values of '" + samples.value_names[v] +
@@ -52,9 +54,27 @@ DataSummary summarise(const SampleSet& samples, const SummaryOptions& options) {
 
   // Spacing and lag advice use the locations of the first value column.
   std::vector<Point> located;
+  std::vector<std::size_t> row_of;  // located index -> sample row
   for (std::size_t i = 0; i < samples.size(); ++i)
-    if (!std::isnan(samples.values.front()[i])) located.push_back(samples.points[i]);
+    if (!std::isnan(samples.values.front()[i])) {
+      located.push_back(samples.points[i]);
+      row_of.push_back(i);
+    }
   s.spacing = nearest_neighbour_spacing(located, samples.dimension);
+  if (s.spacing.near > 0) {
+    const Point& a = located[s.spacing.closest_a];
+    const Point& b = located[s.spacing.closest_b];
+    const double dx = a.x - b.x, dy = a.y - b.y, dz = samples.dimension == 3 ? a.z - b.z : 0.0;
+    std::ostringstream w;
+    w << s.spacing.near << " sample(s) lie closer to another than 1% of the median "
+      << "nearest-neighbour spacing (" << s.spacing.median << "); the closest pair, "
+      << samples.ids[row_of[s.spacing.closest_a]] << " and "
+      << samples.ids[row_of[s.spacing.closest_b]] << ", is "
+      << std::sqrt(dx * dx + dy * dy + dz * dz)
+      << " apart: check for repeated samples or coordinate typos (kriging treats such pairs as "
+         "almost one point)";
+    s.warnings.push_back(w.str());
+  }
   s.lags = suggest_lags(located, samples.dimension, s.spacing.median);
   if (samples.values.size() > 1) s.moments = pairwise_moments(samples.values);
   return s;
