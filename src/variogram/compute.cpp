@@ -192,8 +192,10 @@ double class_value(const Sums& s, const VariogramOptions& o, bool oriented) {
 // a billion). The part of the pair loop that vectorises.
 constexpr std::int32_t kNearEdge = -1;
 
-// GCC builds a copy for AVX2 processors, picked at load time (no FMA: the
-// distances are rounded the same way on every processor).
+// GCC builds copies for AVX-512 and AVX2 processors, one picked at load time
+// (no FMA in this file: the distances round the same way in every copy). The
+// 1e-9 margin is far above the rounding of d / W (a few 1e-16 relative, times
+// at most the 10,000 classes allowed).
 #if defined(__GNUC__) && !defined(__clang__) && defined(__x86_64__)
 __attribute__((target_clones("avx512f", "avx2", "default")))
 #endif
