@@ -61,14 +61,15 @@ is the practical range divided by 3.99852 (the Matern nu = 1 distance at
 which the correlation is 0.05). No linear algebra is needed.
 """
 
-import argparse
 import math
 import os
 import sys
 
-# The seeded deviates and the spectral fields are shared by all the demo-site
-# generators: demo-sites/demo_random.py, one folder up.
+# The seeded deviates, the spectral fields and the writing of the files are
+# shared by the demo-site generators: demo-sites/demo_random.py and
+# demo_files.py, one folder up.
 sys.path.insert(0, os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+import demo_files
 from demo_random import Rng, matern1_field_2d
 
 DEFAULT_SEED = 20250407
@@ -252,42 +253,12 @@ def generate(seed):
             "elevation.prj": PRJ_WKT + "\n"}
 
 
-def output_paths(target, here):
-    """Map each file name to its path (see the module docstring)."""
-    if target is None:
-        folder, samples = here, os.path.join(here, "samples.csv")
-    elif target.lower().endswith(".csv"):
-        folder, samples = os.path.dirname(os.path.abspath(target)), target
-    else:
-        folder, samples = target, os.path.join(target, "samples.csv")
-    paths = {"samples.csv": samples}
-    for name in FILES[1:]:
-        paths[name] = os.path.join(folder, name)
-    return paths, folder
-
-
 def main(argv=None):
-    here = os.path.dirname(os.path.abspath(__file__))
-    parser = argparse.ArgumentParser(
-        description="Write the synthetic groundwater demo data (samples.csv, "
-                    "elevation.asc, elevation.prj).")
-    parser.add_argument("output", nargs="?", default=None,
-                        help="output folder (default: the folder of this "
-                             "script); a path ending in .csv names the "
-                             "samples file and the others go beside it")
-    parser.add_argument("--seed", type=int, default=DEFAULT_SEED,
-                        help="random seed (default: %(default)s, the seed of "
-                             "the committed files)")
-    args = parser.parse_args(argv)
-
-    files = generate(args.seed)
-    paths, folder = output_paths(args.output, here)
-    os.makedirs(folder, exist_ok=True)
-    for name in FILES:
-        with open(paths[name], "w", encoding="ascii", newline="\n") as fh:
-            fh.write(files[name])
-        sys.stderr.write("wrote %s\n" % paths[name])
-    return 0
+    return demo_files.run(
+        argv, os.path.dirname(os.path.abspath(__file__)),
+        "Write the synthetic groundwater demo data (samples.csv, "
+                "elevation.asc, elevation.prj).",
+        FILES, DEFAULT_SEED, generate)
 
 
 if __name__ == "__main__":

@@ -70,14 +70,15 @@ Density. Lode 2.78 t/m3 and waste 2.70 t/m3, each with a small independent
 scatter (sd 0.04 and 0.03), rounded to 0.01.
 """
 
-import argparse
 import math
 import os
 import sys
 
-# The seeded deviates and the spectral fields are shared by all the demo-site
-# generators: demo-sites/demo_random.py, one folder up.
+# The seeded deviates, the spectral fields and the writing of the files are
+# shared by the demo-site generators: demo-sites/demo_random.py and
+# demo_files.py, one folder up.
 sys.path.insert(0, os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
+import demo_files
 from demo_random import Rng, exponential_field_3d
 
 DEFAULT_SEED = 20250607
@@ -416,43 +417,12 @@ def lode_blocks(field):
     return "\n".join(lines) + "\n"
 
 
-def output_paths(target, here):
-    """Map each file name to its path (see the module docstring)."""
-    if target is None:
-        folder, samples = here, os.path.join(here, "samples.csv")
-    elif target.lower().endswith(".csv"):
-        folder, samples = os.path.dirname(os.path.abspath(target)), target
-    else:
-        folder, samples = target, os.path.join(target, "samples.csv")
-    paths = {"samples.csv": samples}
-    for name in FILES[1:]:
-        paths[name] = os.path.join(folder, name)
-    return paths, folder
-
-
 def main(argv=None):
-    here = os.path.dirname(os.path.abspath(__file__))
-    parser = argparse.ArgumentParser(
-        description="Write the synthetic ore-body demo data (samples.csv, "
-                    "collars.csv, lode_blocks.csv).")
-    parser.add_argument("output", nargs="?", default=None,
-                        help="output folder (default: the folder of this "
-                             "script); a path ending in .csv names the "
-                             "samples file and the others go beside it")
-    parser.add_argument("--seed", type=int, default=DEFAULT_SEED,
-                        help="random seed (default: %(default)s, the seed of "
-                             "the committed files)")
-    args = parser.parse_args(argv)
-
-    files = generate(args.seed)
-    paths, folder = output_paths(args.output, here)
-    os.makedirs(folder, exist_ok=True)
-    for name in FILES:
-        with open(paths[name], "w", encoding="ascii", newline="\n") as fh:
-            fh.write(files[name])
-        sys.stderr.write("wrote %d data rows to %s\n"
-                         % (files[name].count("\n") - 1, paths[name]))
-    return 0
+    return demo_files.run(
+        argv, os.path.dirname(os.path.abspath(__file__)),
+        "Write the synthetic ore-body demo data (samples.csv, "
+                "collars.csv, lode_blocks.csv).",
+        FILES, DEFAULT_SEED, generate)
 
 
 if __name__ == "__main__":
