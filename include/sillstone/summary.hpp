@@ -71,8 +71,9 @@ struct SpacingStats {
   /// coordinate typos, which kriging treats as almost one point.
   static constexpr double kNearFraction = 0.01;
   std::size_t near = 0;
-  /// The closest such pair (indices into the points given), if any.
+  /// The closest such pair (indices into the points given) and its distance.
   std::size_t closest_a = 0, closest_b = 0;
+  double closest = 0;
 };
 SpacingStats nearest_neighbour_spacing(const std::vector<Point>& points, int dimension);
 

@@ -33,17 +33,19 @@ std::vector<double> cell_weights(const Used& u, int dimension, double cell, int 
     for (std::size_t i = 0; i < n; ++i) {
       // Cell indices are small non-negative integers (the extent over the cell
       // size is bounded by the scan), packed into one 64-bit key.
-      const auto ix = static_cast<std::int64_t>(std::floor((u.points[i].x - origin.x + shift) / cell));
-      const auto iy = static_cast<std::int64_t>(std::floor((u.points[i].y - origin.y + shift) / cell));
-      const auto iz = dimension == 3
-                          ? static_cast<std::int64_t>(std::floor((u.points[i].z - origin.z + shift) / cell))
-                          : 0;
+      const auto ix =
+          static_cast<std::int64_t>(std::floor((u.points[i].x - origin.x + shift) / cell));
+      const auto iy =
+          static_cast<std::int64_t>(std::floor((u.points[i].y - origin.y + shift) / cell));
+      const auto iz =
+          dimension == 3
+              ? static_cast<std::int64_t>(std::floor((u.points[i].z - origin.z + shift) / cell))
+              : 0;
       keys[i] = (ix << 42) ^ (iy << 21) ^ iz;
       ++counts[keys[i]];
     }
     const double occupied = static_cast<double>(counts.size());
-    for (std::size_t i = 0; i < n; ++i)
-      weights[i] += 1.0 / (counts[keys[i]] * occupied * offsets);
+    for (std::size_t i = 0; i < n; ++i) weights[i] += 1.0 / (counts[keys[i]] * occupied * offsets);
   }
   return weights;
 }
@@ -94,8 +96,9 @@ DeclusteringResult decluster(const std::vector<Point>& points, const std::vector
   }();
 
   if (options.cell > 0 && span / options.cell > 1e6)
-    throw InputError("declustering", "the cell size is too small for the extent (over a million "
-                                     "cells across)");
+    throw InputError("declustering",
+                     "the cell size is too small for the extent (over a million "
+                     "cells across)");
   if (options.cell > 0 || span <= 0 || u.points.size() < 3) {
     r.cell = options.cell > 0 ? options.cell : std::max(span, 1.0);
     r.weights = cell_weights(u, dimension, r.cell, options.offsets, lo);

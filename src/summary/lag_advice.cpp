@@ -2,7 +2,6 @@
 #include <algorithm>
 #include <cmath>
 #include <cstdint>
-#include <limits>
 #include <sstream>
 
 #include "core/point_index.hpp"
@@ -52,12 +51,10 @@ SpacingStats nearest_neighbour_spacing(const std::vector<Point>& points, int dim
   for (double d : nn) sum += d;
   s.mean = sum / static_cast<double>(nn.size());
   const double limit = SpacingStats::kNearFraction * s.median;
-  double closest = std::numeric_limits<double>::infinity();
   for (std::size_t i = 0; i < nn.size(); ++i) {
     if (!(nn[i] > 0 && nn[i] < limit)) continue;
-    ++s.near;
-    if (nn[i] < closest) {
-      closest = nn[i];
+    if (s.near++ == 0 || nn[i] < s.closest) {
+      s.closest = nn[i];
       s.closest_a = std::min<std::size_t>(i, partner[i]);
       s.closest_b = std::max<std::size_t>(i, partner[i]);
     }

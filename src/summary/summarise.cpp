@@ -62,15 +62,11 @@ DataSummary summarise(const SampleSet& samples, const SummaryOptions& options) {
     }
   s.spacing = nearest_neighbour_spacing(located, samples.dimension);
   if (s.spacing.near > 0) {
-    const Point& a = located[s.spacing.closest_a];
-    const Point& b = located[s.spacing.closest_b];
-    const double dx = a.x - b.x, dy = a.y - b.y, dz = samples.dimension == 3 ? a.z - b.z : 0.0;
     std::ostringstream w;
     w << s.spacing.near << " sample(s) lie closer to another than 1% of the median "
       << "nearest-neighbour spacing (" << s.spacing.median << "); the closest pair, "
       << samples.ids[row_of[s.spacing.closest_a]] << " and "
-      << samples.ids[row_of[s.spacing.closest_b]] << ", is "
-      << std::sqrt(dx * dx + dy * dy + dz * dz)
+      << samples.ids[row_of[s.spacing.closest_b]] << ", is " << s.spacing.closest
       << " apart: check for repeated samples or coordinate typos (kriging treats such pairs as "
          "almost one point)";
     s.warnings.push_back(w.str());

@@ -39,7 +39,8 @@ std::string summary_to_json(const DataSummary& s) {
   j["layer"] = s.layer;
   j["dimension"] = s.dimension;
   j["samples"] = s.samples;
-  j["crs"] = s.crs_name.empty() ? json() : json{{"name", s.crs_name}, {"authority", s.crs_authority}};
+  j["crs"] =
+      s.crs_name.empty() ? json() : json{{"name", s.crs_name}, {"authority", s.crs_authority}};
   json rows = {{"read", s.load.rows_read},
                {"kept", s.load.rows_kept},
                {"dropped_no_coordinate", s.load.dropped_no_coordinate},
@@ -49,8 +50,10 @@ std::string summary_to_json(const DataSummary& s) {
                {"duplicates_policy", name_of(s.duplicates)},
                {"below_detection_policy", name_of(s.below_detection)}};
   j["rows"] = rows;
-  json extent = {{"xmin", s.extent_min.x}, {"ymin", s.extent_min.y},
-                 {"xmax", s.extent_max.x}, {"ymax", s.extent_max.y}};
+  json extent = {{"xmin", s.extent_min.x},
+                 {"ymin", s.extent_min.y},
+                 {"xmax", s.extent_max.x},
+                 {"ymax", s.extent_max.y}};
   if (s.dimension == 3) {
     extent["zmin"] = s.extent_min.z;
     extent["zmax"] = s.extent_max.z;
@@ -112,29 +115,34 @@ std::string summary_to_json(const DataSummary& s) {
 void write_summary_text(std::ostream& out, const DataSummary& s) {
   out << "Samples   " << s.source << (s.layer.empty() ? "" : " (layer " + s.layer + ")") << "\n";
   out << "CRS       "
-      << (s.crs_name.empty() ? "none (local coordinates)"
-                             : s.crs_name + (s.crs_authority.empty() ? "" : " [" + s.crs_authority + "]"))
+      << (s.crs_name.empty()
+              ? "none (local coordinates)"
+              : s.crs_name + (s.crs_authority.empty() ? "" : " [" + s.crs_authority + "]"))
       << "\n";
   out << "Rows      " << s.load.rows_read << " read, " << s.load.rows_kept << " kept";
-  if (s.load.dropped_no_coordinate) out << ", " << s.load.dropped_no_coordinate << " without coordinates";
+  if (s.load.dropped_no_coordinate)
+    out << ", " << s.load.dropped_no_coordinate << " without coordinates";
   if (s.load.dropped_no_value) out << ", " << s.load.dropped_no_value << " without values";
   out << "\n";
   out << "Locations " << s.samples << " (" << s.load.duplicate_locations
-      << " duplicate location(s), " << s.load.duplicate_rows_removed << " row(s) merged: --duplicates "
-      << name_of(s.duplicates) << ")\n";
-  out << "Extent    x " << fixed(s.extent_min.x, 2) << " .. " << fixed(s.extent_max.x, 2)
-      << ",  y " << fixed(s.extent_min.y, 2) << " .. " << fixed(s.extent_max.y, 2);
-  if (s.dimension == 3) out << ",  z " << fixed(s.extent_min.z, 2) << " .. " << fixed(s.extent_max.z, 2);
+      << " duplicate location(s), " << s.load.duplicate_rows_removed
+      << " row(s) merged: --duplicates " << name_of(s.duplicates) << ")\n";
+  out << "Extent    x " << fixed(s.extent_min.x, 2) << " .. " << fixed(s.extent_max.x, 2) << ",  y "
+      << fixed(s.extent_min.y, 2) << " .. " << fixed(s.extent_max.y, 2);
+  if (s.dimension == 3)
+    out << ",  z " << fixed(s.extent_min.z, 2) << " .. " << fixed(s.extent_max.z, 2);
   out << "\n\n";
 
   const int w = 12;
   out << std::left << std::setw(22) << "statistic";
-  for (const auto& n : s.names) out << std::right << std::setw(std::max<int>(w, static_cast<int>(n.size()) + 2)) << n;
+  for (const auto& n : s.names)
+    out << std::right << std::setw(std::max<int>(w, static_cast<int>(n.size()) + 2)) << n;
   out << "\n";
   auto row = [&](const std::string& label, auto get) {
     out << std::left << std::setw(22) << label;
     for (std::size_t v = 0; v < s.names.size(); ++v)
-      out << std::right << std::setw(std::max<int>(w, static_cast<int>(s.names[v].size()) + 2)) << get(v);
+      out << std::right << std::setw(std::max<int>(w, static_cast<int>(s.names[v].size()) + 2))
+          << get(v);
     out << "\n";
   };
   row("count", [&](std::size_t v) { return std::to_string(s.stats[v].count); });
@@ -156,8 +164,8 @@ void write_summary_text(std::ostream& out, const DataSummary& s) {
   if (!s.declustered.empty()) out << "Declustering: " << s.declustered.front().rule << ".\n";
 
   out << "\nNearest-neighbour spacing  min " << fmt(s.spacing.min) << ", median "
-      << fmt(s.spacing.median) << ", mean " << fmt(s.spacing.mean) << ", max "
-      << fmt(s.spacing.max) << "\n";
+      << fmt(s.spacing.median) << ", mean " << fmt(s.spacing.mean) << ", max " << fmt(s.spacing.max)
+      << "\n";
   out << "Suggested variogram lags   --lag " << fmt(s.lags.lag) << " --lags " << s.lags.lags
       << "  (max distance " << fmt(s.lags.max_distance) << ", fewest pairs in a class "
       << (s.lags.pairs_estimated ? "~" : "") << s.lags.min_pairs << ")\n";
@@ -167,13 +175,15 @@ void write_summary_text(std::ostream& out, const DataSummary& s) {
     auto matrix = [&](const char* title, const Eigen::MatrixXd& m) {
       out << "\n" << title << " (pairwise-complete)\n";
       out << std::left << std::setw(22) << "";
-      for (const auto& n : s.names) out << std::right << std::setw(std::max<int>(w, static_cast<int>(n.size()) + 2)) << n;
+      for (const auto& n : s.names)
+        out << std::right << std::setw(std::max<int>(w, static_cast<int>(n.size()) + 2)) << n;
       out << "\n";
       for (Eigen::Index i = 0; i < m.rows(); ++i) {
         out << std::left << std::setw(22) << s.names[static_cast<std::size_t>(i)];
         for (Eigen::Index k = 0; k < m.cols(); ++k)
           out << std::right
-              << std::setw(std::max<int>(w, static_cast<int>(s.names[static_cast<std::size_t>(k)].size()) + 2))
+              << std::setw(std::max<int>(
+                     w, static_cast<int>(s.names[static_cast<std::size_t>(k)].size()) + 2))
               << fmt(m(i, k));
         out << "\n";
       }

@@ -188,7 +188,7 @@ double class_value(const Sums& s, const VariogramOptions& o, bool oriented) {
 // their values from vi, and each pair's class: k when edges[k] < d <=
 // edges[k + 1]; last + 1 when it is no pair (d = 0: coincident samples;
 // d > reach); kNearEdge when d / W lies within 1e-9 of a whole number, so that
-// only the edges themselves can tell (class_of() settles those, a handful in
+// only the edges themselves can tell (settled_class() settles those, a handful in
 // a billion). The part of the pair loop that vectorises.
 constexpr std::int32_t kNearEdge = -1;
 
@@ -221,10 +221,14 @@ void pair_distances(const double* __restrict x, const double* __restrict y,
   }
 }
 
-// The class k of distance d (0 < d <= edges.back()): edges[k] < d <= edges[k+1].
-std::int32_t class_of(double d, const std::vector<double>& edges) {
-  const auto above = std::lower_bound(edges.begin() + 1, edges.end(), d);  // first edge >= d
-  return static_cast<std::int32_t>(above - edges.begin()) - 1;
+// The class of a pair as pair_distances() left it, with a kNearEdge settled
+// against the edges themselves: edges[k] < d <= edges[k+1].
+inline std::size_t settled_class(std::int32_t k, double d, const std::vector<double>& edges) {
+  if (__builtin_expect(k == kNearEdge, 0)) {
+    const auto above = std::lower_bound(edges.begin() + 1, edges.end(), d);  // first edge >= d
+    return static_cast<std::size_t>(above - edges.begin()) - 1;
+  }
+  return static_cast<std::size_t>(k);
 }
 
 // The sums of one class in the common case are four doubles: distance,
@@ -245,9 +249,7 @@ void add_run(double* __restrict sums, std::size_t bins, const double* __restrict
              const double* __restrict squared, const std::int32_t* __restrict klass,
              std::size_t m, const std::vector<double>& edges) {
   auto one = [&](std::size_t t, double* __restrict copy) {
-    std::int32_t k = klass[t];
-    if (__builtin_expect(k == kNearEdge, 0)) k = class_of(distance[t], edges);
-    double* at = copy + kWidth * static_cast<std::size_t>(k);
+    double* at = copy + kWidth * settled_class(klass[t], distance[t], edges);
     Four sum;
     std::memcpy(&sum, at, sizeof sum);
     const Four pair = {distance[t], squared[t], 1.0, 0.0};
@@ -530,8 +532,7 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
             const std::size_t j = from + t;
             const double dx = xs[j] - xi, dy = ys[j] - yi, dz = zs[j] - zi;
             if (d <= reach) {
-              const auto k =
-                  static_cast<std::size_t>(klass[t] == kNearEdge ? class_of(d, edges) : klass[t]);
+              const std::size_t k = settled_class(klass[t], d, edges);
               for (std::size_t r = 0; r < ndir; ++r) {
                 const int sense = directions[r].test(dx, dy, dz, d);
                 if (sense > 0)
