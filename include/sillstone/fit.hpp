@@ -152,7 +152,7 @@ struct FitResult {
   CovarianceModel model;
   std::string source;  ///< what the variogram was computed from (or the table's path)
   std::string value;   ///< the value column, when known
-  Transform transform = Transform::none;  ///< of the variogram's values
+  ValueTransform transform;  ///< of the variogram's values
   std::vector<Family> structures;         ///< as requested (the model's order)
   FitWeights weights = FitWeights::cressie;
   double objective = 0;  ///< S = sum w_i (gamma_hat_i - gamma(h_i))^2, final weights

@@ -49,7 +49,7 @@ struct KrigingOptions {
   std::string external_drift;    ///< --external-drift RASTER: its value is a drift term
   std::vector<double> block;     ///< --block DX,DY[,DZ]; empty: point kriging
   std::vector<int> discretise;   ///< --discretise NX,NY[,NZ]; default 4 per axis
-  Transform transform = Transform::none;  ///< --transform none|log
+  ValueTransform transform;  ///< the model's (kind none or log): kriged on forward(value)
   double threshold = std::numeric_limits<double>::quiet_NaN();  ///< --threshold T (original scale)
   int threads = 0;               ///< --threads; 0: every core
   /// Checks the options against the data dimension and the model.

@@ -166,7 +166,11 @@ std::string to_spec(const CovarianceModel& model);
 /// The contents of a model.json file (layout in docs/models.md).
 struct ModelFile {
   CovarianceModel model;
-  Transform transform = Transform::none;  ///< of the values the model describes
+  ValueTransform transform;  ///< of the values the model describes
+  /// True when the file says its transform ({"kind": ...}, or the older text
+  /// form); false for a SPEC string and for a model.json without "transform".
+  bool transform_recorded = false;
+  std::vector<std::string> notes;  ///< e.g. that an older file's transform was assumed
   std::string
       fit;  ///< the "fit" object as compact JSON text, written by the fit stage; empty: none
 };

@@ -23,6 +23,7 @@
 #pragma once
 
 #include <functional>
+#include <optional>
 #include <string>
 #include <vector>
 
@@ -54,10 +55,12 @@ struct ReportOptions {
 };
 
 /// Another kriging set-up to compare by cross-validation ([crossval] also):
-/// the study's [kriging] options with these replaced.
+/// the verbs' defaults with only the keys it names (method, drift,
+/// external_drift, transform), as `crossval` with those options would run.
 struct KrigingAlternative {
   std::string label;
   KrigingOptions options;
+  std::optional<Transform> transform;  ///< asked for; must agree with the model's
 };
 
 struct Study {
@@ -74,7 +77,7 @@ struct Study {
   std::string mask;
   std::string blocks;  ///< [grid] blocks: a block list for block models (kriging.hpp TableTarget)
   KrigingOptions kriging;
-  bool kriging_transform_given = false;  ///< else the model's transform is used
+  std::optional<Transform> kriging_transform;  ///< [kriging] transform; else the model's
   std::string output_dir;
   std::string format;
   bool overwrite = false;

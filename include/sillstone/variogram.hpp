@@ -132,7 +132,14 @@ struct EmpiricalVariogram {
   NormalScoreTable normal_scores;  ///< with Transform::normal_score: the back-transform table
   std::optional<VariogramSurface> surface;
   VariogramSummary summary;
+  /// False for a CSV table without the transform,log_offset columns (written
+  /// by earlier versions): its transform is not known.
+  bool transform_recorded = true;
 };
+
+/// The transform the variogram's values were computed on (kind, log offset,
+/// normal-score table): the one model.json records and kriging undoes.
+ValueTransform transform_of(const EmpiricalVariogram& variogram);
 
 /// Called with the fraction done (0..1), from one thread at a time, in increasing order.
 using Progress = std::function<void(double)>;

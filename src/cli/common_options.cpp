@@ -108,55 +108,6 @@ void check_variogram_options(const VariogramOptions& o) {
   if (!probe.is_valid(&why)) throw InputError("variogram", why);
 }
 
-namespace {
-
-std::string format(double x) {
-  std::ostringstream s;
-  s << x;
-  return s.str();
-}
-
-// Lag classes from the advice of `inspect` when none were given. Returns the note.
-std::string advise_lags(const SampleSet& samples, VariogramOptions* o) {
-  std::vector<Point> located;
-  for (std::size_t i = 0; i < samples.size(); ++i)
-    if (!std::isnan(samples.values.front()[i])) located.push_back(samples.points[i]);
-  const SpacingStats spacing = nearest_neighbour_spacing(located, samples.dimension);
-  const LagAdvice advice = suggest_lags(located, samples.dimension, spacing.median);
-  if (advice.lags < 1)
-    throw InputError("variogram", samples.source +
-                                      ": no lag classes can be suggested for these "
-                                      "samples; give --lag and --lags");
-  if (o->lags > 0) {  // --lags N alone: the suggested reach, cut into N classes
-    o->max_distance = advice.max_distance;
-    return "no --lag or --max-distance given; using the suggested maximum distance " +
-           format(advice.max_distance) + " in " + std::to_string(o->lags) + " classes (" +
-           advice.rule + ")";
-  }
-  o->lag = advice.lag;
-  o->lags = advice.lags;
-  return "no --lag or --max-distance given; using the suggested --lag " + format(advice.lag) +
-         " --lags " + std::to_string(advice.lags) + " (" + advice.rule + ")";
-}
-
-}  // namespace
-
-EmpiricalVariogram variogram_of(const SampleSet& samples, VariogramOptions o, bool quiet,
-                                std::vector<std::string>* notes,
-                                std::vector<std::string>* warnings) {
-  std::vector<std::string> own_warnings;
-  if (samples.value_names.size() > 1)
-    own_warnings.push_back("several --value columns were given; the variogram uses the first, '" +
-                           samples.value_names.front() + "'");
-  o.value = samples.value_names.front();
-  if (o.lag == 0 && o.max_distance == 0) notes->push_back(advise_lags(samples, &o));
-  EmpiricalVariogram v = compute_variogram(samples, o, terminal_progress(quiet));
-  warnings->insert(warnings->end(), v.summary.warnings.begin(), v.summary.warnings.end());
-  warnings->insert(warnings->end(), own_warnings.begin(), own_warnings.end());
-  notes->insert(notes->end(), v.summary.notes.begin(), v.summary.notes.end());
-  return v;
-}
-
 void add_output_options(CLI::App& verb, OutputArgs& a) {
   verb.add_flag("--json", a.json, "Print the results as JSON");
   verb.add_flag("-q,--quiet", a.quiet, "No progress messages");
@@ -190,8 +141,9 @@ void add_kriging_options(CLI::App& verb, KrigingArgs& a) {
       ->delimiter(',');
   verb.add_option("--discretise", o.discretise, "Block discretisation NX,NY[,NZ] (default 4 each)")
       ->delimiter(',');
-  verb.add_option("--transform", a.transform, "none or log (lognormal kriging)")
-      ->default_str("none");
+  verb.add_option("--transform", a.transform,
+                  "none or log; a model.json says its own transform, and this must agree "
+                  "(default: the model's, or none for a SPEC)");
   verb.add_option("--threshold", o.threshold,
                   "Also give the probability of exceeding this value");
   verb.add_option("--threads", o.threads, "Threads (0: every core)")->default_str("0");
@@ -201,8 +153,17 @@ KrigingOptions resolve(const KrigingArgs& a) {
   KrigingOptions o = a.options;
   o.method = parse_name<KrigingMethod>(a.method, "--method");
   o.drift = a.drift.empty() ? Drift::none : parse_name<Drift>(a.drift, "--drift");
-  o.transform = parse_name<Transform>(a.transform, "--transform");
   return o;
+}
+
+std::optional<Transform> asked_transform(const KrigingArgs& a) {
+  if (a.transform.empty()) return std::nullopt;
+  return parse_name<Transform>(a.transform, "--transform");
+}
+
+void print_log(const StageLog& log, bool quiet) {
+  print_warnings(log.warnings);
+  print_notes(log.notes, quiet);
 }
 
 void print_warnings(const std::vector<std::string>& warnings) {

@@ -4,11 +4,13 @@
 #include <CLI/CLI.hpp>
 
 #include <functional>
+#include <optional>
 #include <string>
 #include <vector>
 
 #include "sillstone/kriging.hpp"
 #include "sillstone/neighbourhood.hpp"
+#include "sillstone/pipeline.hpp"
 #include "sillstone/samples.hpp"
 #include "sillstone/variogram.hpp"
 
@@ -50,13 +52,6 @@ VariogramOptions resolve(const VariogramArgs& args);
 /// Refuses (InputError) what can be refused before the samples are read.
 /// The lag classes may still be missing (they are then advised, see below).
 void check_variogram_options(const VariogramOptions& options);
-/// The variogram of the first value column of `samples`, with the lag classes
-/// that `inspect` advises when none were given (said in a note). Appends the
-/// notes and warnings to print.
-EmpiricalVariogram variogram_of(const SampleSet& samples, VariogramOptions options, bool quiet,
-                                std::vector<std::string>* notes,
-                                std::vector<std::string>* warnings);
-
 /// Output switches shared by the verbs that print results.
 struct OutputArgs {
   bool json = false;
@@ -75,11 +70,18 @@ struct KrigingArgs {
   KrigingOptions options;
   std::string method = "ordinary";
   std::string drift;
-  std::string transform = "none";
+  std::string transform;  // empty: the model's own
 };
 void add_kriging_options(CLI::App& verb, KrigingArgs& args);
-/// The KrigingOptions after the enumerations were parsed (throws InputError).
+/// The KrigingOptions after the enumerations were parsed (throws InputError);
+/// the transform is settled with the model by kriging_stage_options.
 KrigingOptions resolve(const KrigingArgs& args);
+
+/// `--transform` of krige and crossval, when given.
+std::optional<Transform> asked_transform(const KrigingArgs& args);
+
+/// Prints the log's warnings, then its notes (unless `quiet`).
+void print_log(const StageLog& log, bool quiet);
 
 /// Prints each warning as one "warning: ..." line on stderr.
 void print_warnings(const std::vector<std::string>& warnings);

@@ -10,9 +10,6 @@
 
 namespace sillstone::cli {
 
-KrigingOptions resolve_with_model(const KrigingArgs& args, const ModelFile& model,
-                                  std::vector<std::string>* notes);
-
 VerbRunner add_crossval(CLI::App& app) {
   struct Args {
     SampleArgs samples;
@@ -24,7 +21,6 @@ VerbRunner add_crossval(CLI::App& app) {
     OutputArgs out;
   };
   auto a = std::make_shared<Args>();
-  a->kriging.transform.clear();
   CLI::App* verb = app.add_subcommand("crossval", "Leave-one-out or k-fold cross-validation");
   add_sample_options(*verb, a->samples);
   add_kriging_options(*verb, a->kriging);
@@ -38,15 +34,14 @@ VerbRunner add_crossval(CLI::App& app) {
     if (!verb->parsed()) return -1;
     if (!a->output.empty()) check_output_path(a->output, a->overwrite);
     const ModelFile model = load_model(a->kriging.model);
-    std::vector<std::string> notes;
-    const KrigingOptions options = resolve_with_model(a->kriging, model, &notes);
-    const SampleSet samples = load_samples(resolve(a->samples));
+    StageLog log;
+    const KrigingOptions options =
+        kriging_stage_options(resolve(a->kriging), asked_transform(a->kriging), model, &log);
+    const SampleSet samples = load_stage(resolve(a->samples), &log);
     const CrossValidationResult result =
-        cross_validate(samples, model.model, options, a->neighbourhood, a->cv);
+        crossval_stage(samples, model.model, options, a->neighbourhood, a->cv, &log);
     // Warnings only once every check has passed: a refused run prints one line.
-    print_warnings(samples.summary.warnings);
-    print_notes(notes, a->out.quiet);
-    print_warnings(result.summary.counts.warnings);
+    print_log(log, a->out.quiet);
     if (!a->output.empty())
       write_text_output(a->output, crossval_csv(result, samples.dimension), a->overwrite);
     std::cout << (a->out.json ? crossval_summary_json(result) + "\n" : crossval_summary_text(result));

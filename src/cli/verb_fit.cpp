@@ -111,42 +111,28 @@ VerbRunner add_fit(CLI::App& app) {
       check_output_path(a.output_path, a.overwrite);
     }
 
-    std::vector<std::string> notes, warnings;
+    StageLog log;
     EmpiricalVariogram v;
     if (is_variogram_table(input)) {
       for (const auto& names : {sample_option_names(), variogram_option_names()})
         for (const auto& name : names)
-          if (name != "--transform" && verb->count(name) > 0)
+          if (name != "--transform" && name != "--log-offset" && verb->count(name) > 0)
             throw InputError("fit", input + " is a variogram table; " + name +
                                         " applies only when the input holds samples");
-      v = read_variogram(input);
-      v.source = input;
-      if (verb->count("--transform") > 0) {
-        // A CSV table does not say its transform: --transform says it. A JSON
-        // table does, and must agree.
-        const bool json = std::filesystem::path(input).extension() == ".json";
-        if (json && v.options.transform != vo.transform)
-          throw InputError("fit", input + " is a variogram of transform " +
-                                      std::string(name_of(v.options.transform)) + ", not " +
-                                      std::string(name_of(vo.transform)));
-        v.options.transform = vo.transform;
-      } else if (std::filesystem::path(input).extension() != ".json") {
-        notes.push_back(
-            "a CSV variogram table does not record its transform: it is taken as none "
-            "(give --transform if the table is of transformed values)");
-      }
+      if (verb->count("--log-offset") > 0 && verb->count("--transform") == 0)
+        throw InputError("fit", "--log-offset needs --transform log");
+      std::optional<ValueTransform> asked;
+      if (verb->count("--transform") > 0) asked = ValueTransform{vo.transform, vo.log_offset, {}};
+      v = read_variogram_stage(input, asked, &log);
     } else {
       if (a.samples.options.values.empty())
         throw InputError("fit", input +
                                     " is not a variogram table, so it is read as samples: give "
                                     "--value");
-      const SampleSet samples = load_samples(resolve(a.samples));
+      const SampleSet samples = load_stage(resolve(a.samples), &log);
       require_variation(samples, 0, "fit");
-      v = variogram_of(samples, vo, a.output.quiet, &notes, &warnings);
+      v = variogram_stage(samples, vo, terminal_progress(a.output.quiet), &log);
     }
-    if (v.options.transform == Transform::log && v.options.log_offset != 0)
-      warnings.push_back("the variogram is of log(value + " + std::to_string(v.options.log_offset) +
-                         "); model.json records the transform as log, without the offset");
 
     std::vector<FitResult> ranking;
     FitResult best;
@@ -156,9 +142,8 @@ VerbRunner add_fit(CLI::App& app) {
     } else {
       best = fit_model(v, options);
     }
-    warnings.insert(warnings.end(), best.summary.warnings.begin(), best.summary.warnings.end());
-    print_warnings(warnings);
-    print_notes(notes, a.output.quiet);
+    log.warnings_from(best.summary.warnings);
+    print_log(log, a.output.quiet);
 
     if (!a.output_path.empty())
       write_text_output(a.output_path, model_to_json(fitted_model_file(best, ranking)),

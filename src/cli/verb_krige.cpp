@@ -20,34 +20,12 @@
 namespace sillstone::cli {
 namespace {
 
-std::string neighbourhood_text(const NeighbourhoodOptions& n) {
-  if (n.global) return "global (every sample)";
-  std::ostringstream s;
-  s << "max_points=" << n.max_points << " min_points=" << n.min_points
-    << " radius=" << (n.radius > 0 ? std::to_string(n.radius) : "unlimited")
-    << " sectors=" << n.sectors << " max_per_sector=" << n.max_per_sector;
-  return s.str();
-}
-
 bool is_table(const std::string& path) {
   const std::string ext = std::filesystem::path(path).extension().string();
   return ext == ".csv" || ext == ".CSV" || ext == ".gpkg" || ext == ".GPKG";
 }
 
 }  // namespace
-
-// Resolves the transform: an explicit --transform wins; otherwise the model
-// file's own transform is used (a model fitted to logs krigs logs).
-KrigingOptions resolve_with_model(const KrigingArgs& args, const ModelFile& model,
-                                  std::vector<std::string>* notes) {
-  KrigingArgs a = args;
-  if (a.transform.empty()) {
-    a.transform = std::string(name_of(model.transform));
-    if (model.transform != Transform::none)
-      notes->push_back("--transform " + a.transform + " taken from the model file");
-  }
-  return resolve(a);
-}
 
 VerbRunner add_krige(CLI::App& app) {
   struct Args {
@@ -60,7 +38,6 @@ VerbRunner add_krige(CLI::App& app) {
     OutputArgs out;
   };
   auto a = std::make_shared<Args>();
-  a->kriging.transform.clear();
   CLI::App* verb = app.add_subcommand("krige", "Kriging onto a grid or block model");
   add_sample_options(*verb, a->samples);
   add_kriging_options(*verb, a->kriging);
@@ -86,40 +63,25 @@ VerbRunner add_krige(CLI::App& app) {
     std::string why;
     if (!a->grid.is_valid(&why)) throw InputError("krige", why);
     const ModelFile model = load_model(a->kriging.model);
-    std::vector<std::string> notes;
-    const KrigingOptions options = resolve_with_model(a->kriging, model, &notes);
-    const SampleSet samples = load_samples(resolve(a->samples));
+    StageLog log;
+    const KrigingOptions options =
+        kriging_stage_options(resolve(a->kriging), asked_transform(a->kriging), model, &log);
+    const SampleSet samples = load_stage(resolve(a->samples), &log);
     if (samples.value_names.size() > 1)
-      notes.push_back("kriging the first value column, '" + samples.value_names.front() + "'");
-
-    std::vector<double> extent;
-    if (!samples.points.empty()) {
-      Point lo = samples.points.front(), hi = lo;
-      for (const auto& p : samples.points) {
-        lo = {std::min(lo.x, p.x), std::min(lo.y, p.y), std::min(lo.z, p.z)};
-        hi = {std::max(hi.x, p.x), std::max(hi.y, p.y), std::max(hi.z, p.z)};
-      }
-      extent = {lo.x, lo.y, hi.x, hi.y};
-      if (samples.dimension == 3) extent.insert(extent.end(), {lo.z, hi.z});
-    }
-    const GridSpec grid = make_grid(a->grid, samples.dimension, extent, samples.crs_wkt);
-    for (const auto& n : grid.notes) notes.push_back(n);
+      log.note("kriging the first value column, '" + samples.value_names.front() + "'");
     const bool table = samples.dimension == 3 || is_table(a->output);
+    if (!a->mask.empty() && table)
+      throw InputError("krige", "--mask applies to rasters; a block table is limited with "
+                                "--blocks (a list of the blocks to estimate)");
+    const GridSpec grid = plan_grid(a->grid, samples, a->mask, &log);
     const std::size_t extra = std::isnan(options.threshold) ? 0 : 1;
     check_output_size(grid, table ? 5 + extra : 2 + extra, table, a->output);
-    if (!a->mask.empty()) {
-      if (table)
-        throw InputError("krige", "--mask applies to rasters; a block table is limited with "
-                                  "--blocks (a list of the blocks to estimate)");
-      check_mask(a->mask, grid);
-    }
 
     const KrigingEngine engine(samples, model.model, options, a->neighbourhood);
     // Warnings only once every check has passed: a refused run prints one line.
-    print_warnings(samples.summary.warnings);
-    print_warnings(engine.warnings());
-    for (const auto& n : engine.notes()) notes.push_back(n);
-    print_notes(notes, a->out.quiet);
+    log.warnings_from(engine.warnings());
+    log.notes_from(engine.notes());
+    print_log(log, a->out.quiet);
 
     const Progress progress = terminal_progress(a->out.quiet);
     KrigingSummary summary;
@@ -135,18 +97,7 @@ VerbRunner add_krige(CLI::App& app) {
       target.format = a->format;
       target.overwrite = a->overwrite;
       target.mask = a->mask;
-      target.metadata = {{"SILLSTONE_VERSION", version()},
-                         {"SILLSTONE_SAMPLES", samples.source},
-                         {"SILLSTONE_VALUE", samples.value_names.front()},
-                         {"SILLSTONE_MODEL", to_spec(model.model)},
-                         {"SILLSTONE_METHOD", std::string(name_of(options.method))},
-                         {"SILLSTONE_TRANSFORM", std::string(name_of(options.transform))},
-                         {"SILLSTONE_NEIGHBOURHOOD", neighbourhood_text(a->neighbourhood)}};
-      if (!options.block.empty()) {
-        std::ostringstream b;
-        for (std::size_t i = 0; i < options.block.size(); ++i) b << (i ? "," : "") << options.block[i];
-        target.metadata.push_back({"SILLSTONE_BLOCK", b.str()});
-      }
+      target.metadata = map_metadata(samples, model, options, a->neighbourhood);
       summary = krige_raster(engine, grid, target, progress);
     }
     print_warnings(summary.warnings);

@@ -53,11 +53,11 @@ VerbRunner add_variogram(CLI::App& app) {
     }
     if (!a.surface_path.empty()) check_output_path(a.surface_path, a.overwrite);
 
-    const SampleSet samples = load_samples(resolve(a.samples));
-    std::vector<std::string> notes, warnings;
-    const EmpiricalVariogram v = variogram_of(samples, o, a.output.quiet, &notes, &warnings);
-    print_warnings(warnings);
-    print_notes(notes, a.output.quiet);
+    StageLog log;
+    const SampleSet samples = load_stage(resolve(a.samples), &log);
+    const EmpiricalVariogram v =
+        variogram_stage(samples, o, terminal_progress(a.output.quiet), &log);
+    print_log(log, a.output.quiet);
 
     if (!a.output_path.empty()) write_variogram(a.output_path, v, a.overwrite);
     if (!a.surface_path.empty()) write_variogram_surface(a.surface_path, v, a.overwrite);

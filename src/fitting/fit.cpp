@@ -516,7 +516,7 @@ FitResult fit_structures(const EmpiricalVariogram& v, const FitOptions& options,
   FitResult result;
   result.source = v.source;
   result.value = v.value;
-  result.transform = v.options.transform;
+  result.transform = transform_of(v);
   result.structures = options.structures;
   result.weights = options.weights;
   result.samples = v.summary.samples;

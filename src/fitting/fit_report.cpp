@@ -77,6 +77,7 @@ ModelFile fitted_model_file(const FitResult& best, const std::vector<FitResult>&
   ModelFile file;
   file.model = best.model;
   file.transform = best.transform;
+  file.transform_recorded = true;
   Json fit;
   fit["weights"] = std::string(name_of(best.weights));
   fit["objective"] = number(best.objective);
@@ -104,7 +105,7 @@ std::string fit_to_json(const FitResult& best, const std::vector<FitResult>& ran
   j["sillstone"] = version();
   j["source"] = best.source;
   j["value"] = best.value;
-  j["transform"] = std::string(name_of(best.transform));
+  j["transform"] = best.transform.describe();
   j["model"] = to_spec(best.model);
   ModelFile file;
   file.model = best.model;
@@ -161,7 +162,7 @@ void write_fit_text(std::ostream& out, const FitResult& best,
     out << "Fit of the variogram" << (best.source.empty() ? "" : " in " + best.source);
   else
     out << "Fit of '" << best.value << "'" << (best.source.empty() ? "" : " (" + best.source + ")");
-  out << "; transform " << name_of(best.transform) << "\n";
+  out << "; transform " << best.transform.describe() << "\n";
   out << "Weights      " << name_of(best.weights);
   switch (best.weights) {
     case FitWeights::cressie:

@@ -150,7 +150,7 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
       run(engine, targets, false);
     }
     for (std::size_t i = 0; i < n; ++i)
-      kriged[i] = kriging.transform == Transform::log ? std::log(all.values[0][i]) : all.values[0][i];
+      kriged[i] = kriging.transform.forward(all.values[0][i]);
   }
 
   // Rows and summary, in sample order (independent of threads).

@@ -135,9 +135,13 @@ bool KrigingOptions::is_valid(int dimension, const CovarianceModel& model, std::
   if (!std::isnan(mean) && method != KrigingMethod::simple)
     return fail("--mean is for --method simple only");
   if (!std::isnan(mean) && !std::isfinite(mean)) return fail("--mean must be a finite number");
-  if (transform != Transform::none && transform != Transform::log)
-    return fail("kriging supports --transform none or log");
-  if (transform == Transform::log &&
+  if (transform.kind == Transform::normal_score)
+    return fail(
+        "kriging of normal scores is not offered (it needs a simulation to be back-"
+        "transformed): compute the variogram with --transform log or none");
+  if (transform.kind == Transform::log && !std::isfinite(transform.log_offset))
+    return fail("the log offset must be a finite number");
+  if (transform.kind == Transform::log &&
       (method == KrigingMethod::universal || !external_drift.empty()))
     return fail(
         "--transform log is supported with simple and ordinary kriging only (the "
@@ -162,8 +166,9 @@ bool KrigingOptions::is_valid(int dimension, const CovarianceModel& model, std::
   }
   if (!std::isnan(threshold)) {
     if (!std::isfinite(threshold)) return fail("--threshold must be a finite number");
-    if (transform == Transform::log && !(threshold > 0))
-      return fail("--threshold must be positive with --transform log");
+    if (transform.kind == Transform::log && !transform.accepts(threshold))
+      return fail("--threshold must be above " + fmt(-transform.log_offset) + " with " +
+                  transform.describe() + " (its log must be defined)");
   }
   // Each thread holds its own workspace: a typo such as 100000 would try to
   // start that many threads before any work.
@@ -239,12 +244,15 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
   for (std::size_t i = 0; i < raw.size(); ++i) {
     if (std::isnan(raw[i])) continue;
     double v = raw[i];
-    if (options.transform == Transform::log) {
-      if (!(v > 0))
+    if (options.transform.kind != Transform::none) {
+      if (!options.transform.accepts(v))
         throw InputError(kComponent,
                          InputLocation{samples.source, samples.ids[i], samples.value_names[column]},
-                         "--transform log needs positive values (got " + fmt(v) + ")");
-      v = std::log(v);
+                         "the transform " + options.transform.describe() +
+                             " is undefined for the value " + fmt(v) +
+                             (options.transform.log_offset == 0 ? " (values must be positive)"
+                                                                : ""));
+      v = options.transform.forward(v);
     }
     used.push_back(i);
     values_.push_back(v);
@@ -365,7 +373,7 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
       const DeclusteringResult d = decluster(pts, values_, dimension_, {});
       mean_ = d.mean;
       notes_.push_back("simple kriging mean " + fmt(mean_) +
-                       (options.transform == Transform::log ? " (log scale)" : "") +
+                       (options.transform.kind == Transform::log ? " (on the scale of " + options.transform.describe() + ")" : std::string()) +
                        ": the cell-declustered sample mean (cell " + fmt(d.cell) +
                        "); give --mean to set it");
     } else {
@@ -973,15 +981,17 @@ NodeOutput KrigingEngine::finish(const NodeEstimate& e) const {
     return 0.5 * std::erfc((t - mean) / (sd * std::sqrt(2.0)));
   };
   o.variance = e.variance;
-  if (options_.transform == Transform::log) {
+  if (options_.transform.kind == Transform::log) {
     // Lognormal back-transform (docs/kriging.md): simple kriging
     // exp(y* + s^2/2); ordinary kriging exp(y* + s^2/2 + mu) with mu the
     // Lagrange multiplier of the covariance-form system (Journel &
     // Huijbregts 1978; Webster & Oliver 2007 write it -psi in variogram form).
+    // With log(v + C) the estimate of v + C is taken back to v.
     o.estimate = std::exp(e.estimate + e.variance / 2 +
-                          (options_.method == KrigingMethod::simple ? 0.0 : e.lagrange));
+                          (options_.method == KrigingMethod::simple ? 0.0 : e.lagrange)) -
+                 options_.transform.log_offset;
     if (!std::isnan(options_.threshold))
-      o.probability = above(e.estimate, std::log(options_.threshold));
+      o.probability = above(e.estimate, options_.transform.forward(options_.threshold));
   } else {
     o.estimate = e.estimate;
     if (!std::isnan(options_.threshold)) o.probability = above(e.estimate, options_.threshold);

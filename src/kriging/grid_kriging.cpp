@@ -325,7 +325,7 @@ KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
   const bool with_probability = !std::isnan(engine.options().threshold);
   RasterLayout layout;
   layout.grid = grid;
-  layout.bands = {"estimate", engine.options().transform == Transform::log ? "variance (log scale)"
+  layout.bands = {"estimate", engine.options().transform.kind == Transform::log ? "variance (log scale)"
                                                                            : "variance"};
   if (with_probability) layout.bands.push_back(probability_name(engine.options().threshold));
   layout.nodata = target.nodata;

@@ -70,8 +70,14 @@ class JsonModelReader {
 
     ModelFile out;
     out.model = CovarianceModel(std::move(structures));
-    if (doc.contains("transform"))
-      out.transform = name_value<Transform>(doc["transform"], "transform");
+    if (doc.contains("transform")) {
+      out.transform = transform(doc["transform"], &out.notes);
+      out.transform_recorded = true;
+    } else {
+      out.notes.push_back(source_ +
+                          " does not record a transform (an older model file): it is read as "
+                          "describing untransformed values");
+    }
     if (doc.contains("fit")) {
       if (!doc["fit"].is_object()) fail("fit", "expected an object");
       out.fit = doc["fit"].dump();
@@ -118,6 +124,59 @@ class JsonModelReader {
         if (a.contains(key)) detail::set_parameter(&s, key, number(a[key], where + "." + key));
     }
     return s;
+  }
+
+  // {"kind": "none"}, {"kind": "log", "offset": C}, {"kind": "normal-score",
+  // "table": [[value, score], ...], "tails": {...}}; the text form of older
+  // files ("none", "log", "normal-score") is read with a note.
+  ValueTransform transform(const Json& value, std::vector<std::string>* notes) const {
+    ValueTransform t;
+    if (value.is_string()) {
+      t.kind = name_value<Transform>(value, "transform");
+      if (t.kind != Transform::none)
+        notes->push_back(source_ + ": \"transform\": \"" + value.get<std::string>() +
+                         "\" (an older model file) is read as " + t.describe() +
+                         ", with no offset");
+      if (t.kind == Transform::normal_score)
+        fail("transform", "a normal-score model needs its table: {\"kind\": \"normal-score\", "
+                          "\"table\": [[value, score], ...]} (refit the variogram)");
+      return t;
+    }
+    if (!value.is_object()) fail("transform", "expected an object such as {\"kind\": \"log\"}");
+    if (!value.contains("kind")) fail("transform", "missing \"kind\"");
+    t.kind = name_value<Transform>(value["kind"], "transform.kind");
+    switch (t.kind) {
+      case Transform::none:
+        refuse_unknown(value, {"kind"}, "transform", " of none");
+        break;
+      case Transform::log:
+        refuse_unknown(value, {"kind", "offset"}, "transform", " of log");
+        if (value.contains("offset")) t.log_offset = number(value["offset"], "transform.offset");
+        if (!std::isfinite(t.log_offset)) fail("transform.offset", "must be finite");
+        break;
+      case Transform::normal_score:
+        refuse_unknown(value, {"kind", "table", "tails"}, "transform", " of normal-score");
+        t.table = score_table(value);
+        break;
+    }
+    return t;
+  }
+
+  NormalScoreTable score_table(const Json& value) const {
+    NormalScoreTable table;
+    if (!value.contains("table") || !value["table"].is_array() || value["table"].empty())
+      fail("transform.table", "expected a non-empty array of [value, score] pairs");
+    const Json& rows = value["table"];
+    for (std::size_t i = 0; i < rows.size(); ++i) {
+      const std::string where = "transform.table[" + std::to_string(i) + "]";
+      if (!rows[i].is_array() || rows[i].size() != 2) fail(where, "expected [value, score]");
+      const double v = number(rows[i][0], where), s = number(rows[i][1], where);
+      if (i > 0 && !(v > table.values.back() && s > table.scores.back()))
+        fail(where, "values and scores must both increase");
+      table.values.push_back(v);
+      table.scores.push_back(s);
+    }
+    return table;
   }
 
   double number(const Json& value, const std::string& path) const {
@@ -190,7 +249,17 @@ std::string model_to_json(const ModelFile& file) {
   }
   Json doc;
   doc["structures"] = list;
-  doc["transform"] = std::string(name_of(file.transform));
+  Json t{{"kind", std::string(name_of(file.transform.kind))}};
+  if (file.transform.kind == Transform::log) t["offset"] = number(file.transform.log_offset);
+  if (file.transform.kind == Transform::normal_score) {
+    Json rows = Json::array();
+    const NormalScoreTable& table = file.transform.table;
+    for (std::size_t i = 0; i < table.values.size(); ++i)
+      rows.push_back(Json::array({table.values[i], table.scores[i]}));
+    t["table"] = rows;
+    t["tails"] = {{"below", "first value"}, {"above", "last value"}};
+  }
+  doc["transform"] = t;
   if (!file.fit.empty()) doc["fit"] = Json::parse(file.fit);
   return doc.dump(2) + "\n";
 }

@@ -359,8 +359,8 @@ void model_section(Html& h, const ReportInput& in) {
         " spatial dependence (classes of Cambardella et al. 1994).");
   }
   h.p("SPEC: <code>" + esc(to_spec(m)) + "</code>" +
-      (in.model->transform != Transform::none
-           ? " (describes " + esc(std::string(name_of(in.model->transform))) + "-transformed values)"
+      (in.model->transform.kind != Transform::none
+           ? " (describes " + esc(in.model->transform.describe()) + ")"
            : std::string()));
   if (!in.fit_table.empty()) h.out << "<pre>" << esc(in.fit_table) << "</pre>\n";
 }
@@ -370,8 +370,12 @@ void crossval_section(Html& h, const ReportInput& in) {
   const auto& cs = cv.summary;
   h.h2("crossval", "Cross-validation");
   h.p((cs.folds >= 2 ? std::to_string(cs.folds) + "-fold" : std::string("Leave-one-out")) +
-      " cross-validation with the kriging settings of the maps: " + std::to_string(cs.estimated) +
-      " of " + std::to_string(cs.samples) + " samples estimated.");
+      " cross-validation with the kriging settings of the maps, at the samples' own support "
+      "(points" +
+      (in.kriging->block.empty() ? std::string(")")
+                                 : std::string("; the map's blocks are not used here)")) +
+      ": " + std::to_string(cs.estimated) + " of " + std::to_string(cs.samples) +
+      " samples estimated.");
   h.table({"statistic", "value", "ideal"},
           {{"mean error", num(cs.mean_error), "0"},
            {"mean absolute error", num(cs.mean_absolute_error), "small"},
@@ -388,7 +392,9 @@ void crossval_section(Html& h, const ReportInput& in) {
     };
     row("this study's kriging (" + std::string(name_of(in.kriging->method)) + ")", cs);
     for (const auto& [label, x] : in.alternatives) row(label, x);
-    h.p("The same cross-validation for other kriging set-ups, with the same model and neighbourhood:");
+    h.p("The same cross-validation for other kriging set-ups ([crossval] also), with the same "
+        "model and neighbourhood; each starts from the defaults of <code>crossval</code> plus "
+        "the keys it names:");
     h.table({"set-up", "ME", "RMSE", "mean std. error", "mean sq. std. error", "correlation", "estimated"}, rows);
   }
   ScatterPlot sc;
@@ -415,7 +421,7 @@ void crossval_section(Html& h, const ReportInput& in) {
 void map_section(Html& h, const ReportInput& in, const std::vector<ExceedanceArea>& areas) {
   const SampleSet& s = *in.samples;
   const KrigingOptions& ko = *in.kriging;
-  const bool logged = ko.transform == Transform::log;
+  const bool logged = ko.transform.kind == Transform::log;
   const std::string& units_value = in.study->report.units;
   h.h2("maps", "Maps");
   const RasterGrid est = read_band(in.map_path, 1, 800);
@@ -516,7 +522,7 @@ std::string render_report(const ReportInput& in) {
   const KrigingOptions& ko = *in.kriging;
   const GridSpec& grid = *in.grid;
   const bool three_d = s.dimension == 3;
-  const bool logged = ko.transform == Transform::log;
+  const bool logged = ko.transform.kind == Transform::log;
   const std::string title =
       st.report.title.empty()
           ? "Study of " + s.value_names.front() + ": " + std::filesystem::path(s.source).filename().string()
@@ -577,7 +583,7 @@ std::string render_report(const ReportInput& in) {
                              ", transform " + v.summary.transform},
            {"model", to_spec(in.model->model)},
            {"kriging", std::string(name_of(ko.method)) + ", transform " +
-                           std::string(name_of(ko.transform)) + (ko.block.empty() ? ", points" : ", blocks")},
+                           ko.transform.describe() + (ko.block.empty() ? ", points" : ", blocks")},
            {"neighbourhood", nb.global ? std::string("global")
                                        : "max " + std::to_string(nb.max_points) + ", min " +
                                              std::to_string(nb.min_points) + ", radius " +

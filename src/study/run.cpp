@@ -18,6 +18,7 @@
 #include "sillstone/model.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/outputs.hpp"
+#include "sillstone/pipeline.hpp"
 #include "sillstone/report.hpp"
 #include "sillstone/study.hpp"
 #include "sillstone/summary.hpp"
@@ -53,23 +54,6 @@ std::string prepare_folder(const std::string& dir) {
   fs::create_directory(p, ec);
   if (ec) throw std::runtime_error("cannot create " + dir + ": " + ec.message());
   return p.string();
-}
-
-std::vector<double> sample_extent(const SampleSet& s) {
-  Point lo = s.points.front(), hi = lo;
-  for (const auto& p : s.points) {
-    lo = {std::min(lo.x, p.x), std::min(lo.y, p.y), std::min(lo.z, p.z)};
-    hi = {std::max(hi.x, p.x), std::max(hi.y, p.y), std::max(hi.z, p.z)};
-  }
-  std::vector<double> e = {lo.x, lo.y, hi.x, hi.y};
-  if (s.dimension == 3) e.insert(e.end(), {lo.z, hi.z});
-  return e;
-}
-
-// Adds the lines of `from` not yet in `to` (stages repeat the loader's warnings).
-void append(std::vector<std::string>& to, const std::vector<std::string>& from) {
-  for (const auto& line : from)
-    if (std::find(to.begin(), to.end(), line) == to.end()) to.push_back(line);
 }
 
 nlohmann::json cross_validation_json(
@@ -137,8 +121,8 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   // before anything is written: the samples, the outputs' paths, the grid
   // and its size, the model when given, the mask and the external drift.
   stage("samples");
-  const SampleSet samples = load_samples(st.samples);
-  append(result.warnings, samples.summary.warnings);
+  StageLog log;
+  const SampleSet samples = load_stage(st.samples, &log);
   if (st.model.kind != ModelChoice::Kind::spec) require_variation(samples, 0, "run");
   const bool three_d = samples.dimension == 3;
   const std::string dir = ro.output_dir.empty() ? st.output_dir : ro.output_dir;
@@ -151,16 +135,13 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   if (!three_d) names.push_back("variogram_surface.tif");
   for (const auto& n : names) check_output_path(out(n.c_str()), overwrite);
 
-  const GridSpec grid = make_grid(st.grid, samples.dimension, sample_extent(samples), samples.crs_wkt);
+  if (three_d && !st.mask.empty())
+    throw InputError("study", st.path + ": [grid] mask applies to 2D rasters; a 3D block "
+                                        "model is limited with [grid] blocks");
+  const GridSpec grid = plan_grid(st.grid, samples, st.mask, &log);
   const std::size_t extra = std::isnan(st.kriging.threshold) ? 0 : 1;
   check_output_size(grid, three_d ? 5 + extra : 2 + extra, three_d,
                     out(three_d ? "blocks.csv" : "estimate.tif"));
-  if (!st.mask.empty()) {
-    if (three_d)
-      throw InputError("study", st.path + ": [grid] mask applies to 2D rasters; a 3D block "
-                                          "model is limited with [grid] blocks");
-    check_mask(st.mask, grid);
-  }
   if (!st.kriging.external_drift.empty()) check_external_drift(st.kriging.external_drift, samples);
   for (const auto& alt : st.crossval_also)
     if (!alt.options.external_drift.empty()) check_external_drift(alt.options.external_drift, samples);
@@ -178,67 +159,63 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   };
 
   const DataSummary summary = summarise(samples, {});
-  append(result.warnings, summary.warnings);
+  log.warnings_from(summary.warnings);
   write_file(stage_output("summary.json"), summary_to_json(summary) + "\n");
 
-  // Variogram: the study's classes, or the suggested ones.
+  // Variogram: the study's classes, or the suggested ones (as the verb).
   stage("variogram");
   VariogramOptions vo = st.variogram;
-  if (vo.lag == 0 && vo.lags == 0 && vo.max_distance == 0) {
-    vo.lag = summary.lags.lag;
-    vo.lags = summary.lags.lags;
-    result.notes.push_back("variogram classes from the suggested lags: " + std::to_string(vo.lags) +
-                           " of " + detail::shortest(vo.lag));
-  }
   vo.surface = !three_d;
   vo.threads = st.kriging.threads;
-  const EmpiricalVariogram variogram = compute_variogram(samples, vo);
-  append(result.warnings, variogram.summary.warnings);
+  const EmpiricalVariogram variogram = variogram_stage(samples, vo, {}, &log);
   write_variogram(stage_output("variogram.csv"), variogram, false);
   if (variogram.surface) write_variogram_surface(stage_output("variogram_surface.tif"), variogram, false);
 
-  // Model: given, fitted or chosen.
+  // Model: given, fitted or chosen; it describes the variogram's transform.
   stage("model");
   std::string fit_table;
+  const ValueTransform measured = transform_of(variogram);
   if (st.model.kind == ModelChoice::Kind::spec) {
-    if (model.fit.empty() && st.model.spec.find(".json") == std::string::npos)
-      model.transform = vo.transform;  // a SPEC describes the variogram it was written for
+    if (!model.transform_recorded) {  // a SPEC describes the variogram it was written for
+      model.transform = measured;
+      model.transform_recorded = true;
+      model.notes.clear();
+    } else if (!model.transform.same_as(measured)) {
+      throw InputError("study", st.model.spec + " describes " + model.transform.describe() +
+                                    " but the study's variogram is of " + measured.describe() +
+                                    ": set [variogram] transform (and log_offset) to match");
+    }
   } else {
     const FittedModel fitted = fit_for_study(st.model, variogram);
     model = fitted.file;
     fit_table = fitted.table;
-    append(result.warnings, fitted.warnings);
+    log.warnings_from(fitted.warnings);
   }
   write_file(stage_output("model.json"), model_to_json(model) + "\n");
 
-  KrigingOptions ko = st.kriging;
-  if (!st.kriging_transform_given) ko.transform = model.transform;
-  if (ko.transform == Transform::normal_score)
-    throw InputError("run", "kriging with the normal-score transform is not offered; use "
-                            "transform = \"log\" or \"none\" in [kriging]");
+  const KrigingOptions ko = kriging_stage_options(st.kriging, st.kriging_transform, model, &log);
   // Built before cross-validation: it refuses options that do not fit the
   // data or the model, and says what it finds doubtful in them.
   const KrigingEngine engine(samples, model.model, ko, st.neighbourhood);
-  append(result.notes, engine.notes());
-  append(result.warnings, engine.warnings());
+  log.notes_from(engine.notes());
+  log.warnings_from(engine.warnings());
 
   CrossValidationResult cv;
   std::vector<std::pair<std::string, CrossValidationSummary>> alternatives;
   if (st.crossval_enabled) {
     stage("crossval");
-    cv = cross_validate(samples, model.model, ko, st.neighbourhood, st.crossval);
-    append(result.warnings, cv.summary.counts.warnings);
+    cv = crossval_stage(samples, model.model, ko, st.neighbourhood, st.crossval, &log);
     write_file(stage_output("crossval.csv"), crossval_csv(cv, samples.dimension));
     for (const auto& alt : st.crossval_also) {
-      KrigingOptions o = alt.options;
-      if (!st.kriging_transform_given) o.transform = ko.transform;
-      const CrossValidationResult other = cross_validate(samples, model.model, o, st.neighbourhood, st.crossval);
+      StageLog quiet;  // an alternative's notes repeat the study's
+      const KrigingOptions o = kriging_stage_options(alt.options, alt.transform, model, &quiet);
+      const CrossValidationResult other =
+          crossval_stage(samples, model.model, o, st.neighbourhood, st.crossval, &quiet);
       alternatives.push_back({alt.label, other.summary});
     }
   }
 
   stage("kriging");
-  append(result.notes, grid.notes);
   KrigingSummary ks;
   std::string map_path;
   if (three_d) {
@@ -253,13 +230,12 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
     target.path = map_path;
     target.format = st.format;
     target.mask = st.mask;
-    target.metadata = {{"SILLSTONE_VERSION", version()},
-                       {"SILLSTONE_MODEL", to_spec(model.model)},
-                       {"SILLSTONE_METHOD", std::string(name_of(ko.method))},
-                       {"SILLSTONE_TRANSFORM", std::string(name_of(ko.transform))}};
+    target.metadata = map_metadata(samples, model, ko, st.neighbourhood);
     ks = krige_raster(engine, grid, target);
   }
-  append(result.warnings, ks.warnings);
+  log.warnings_from(ks.warnings);
+  result.notes = log.notes;
+  result.warnings = log.warnings;
 
   // run.json: inputs with checksums, every setting, the version, the time.
   std::vector<std::pair<std::string, std::string>> inputs;  // (role: path, sha256)
@@ -310,12 +286,13 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
               {"time_utc", utc_now()},
               {"inputs", input_list},
               {"settings", json::parse(study_settings_json(st))},
-              {"resolved", {{"variogram_lag", vo.lag},
-                            {"variogram_lags", vo.lags},
+              {"resolved", {{"variogram_lag", variogram.options.lag},
+                            {"variogram_lags", variogram.options.lags},
                             {"variogram_max_distance", variogram.options.max_distance},
                             {"model", to_spec(model.model)},
-                            {"model_transform", name_of(model.transform)},
-                            {"kriging_transform", name_of(ko.transform)},
+                            {"model_transform", model.transform.describe()},
+                            {"kriging_transform", ko.transform.describe()},
+                            {"crossval_support", "points"},
                             {"grid", {{"xmin", grid.xmin}, {"ymax", grid.ymax}, {"zmin", grid.zmin},
                                       {"dx", grid.dx}, {"dy", grid.dy}, {"dz", grid.dz},
                                       {"nx", grid.nx}, {"ny", grid.ny}, {"nz", grid.nz}}}}},

@@ -242,8 +242,7 @@ Study parse_study(const std::string& text, const std::string& path) {
   kr["block"] = [&](const toml::node& n, const std::string& k) { ko.block = r.numbers(n, k); };
   kr["discretise"] = [&](const toml::node& n, const std::string& k) { ko.discretise = r.integers(n, k); };
   kr["transform"] = [&](const toml::node& n, const std::string& k) {
-    ko.transform = r.named<Transform>(n, k);
-    st.kriging_transform_given = true;
+    st.kriging_transform = r.named<Transform>(n, k);
   };
   kr["threshold"] = [&](const toml::node& n, const std::string& k) { ko.threshold = r.number(n, k); };
   kr["threads"] = [&](const toml::node& n, const std::string& k) { ko.threads = r.integer(n, k); };
@@ -284,21 +283,21 @@ Study parse_study(const std::string& text, const std::string& path) {
     for (const auto& item : *also_node->as_array()) {
       const toml::table* t = item.as_table();
       if (!t) r.fail(item, "crossval.also", "expected a table { label = ..., method = ... }");
+      // An alternative starts from the verbs' defaults, plus only what it
+      // names (docs/run.md): nothing of the study's [kriging] is inherited
+      // but the thread count.
       KrigingAlternative alt;
-      alt.options = st.kriging;
+      alt.options.threads = st.kriging.threads;
       for (const auto& [key, value] : *t) {
         const std::string name = "crossval.also." + std::string(key.str());
         if (key == "label") alt.label = r.string(value, name);
         else if (key == "method") alt.options.method = r.named<KrigingMethod>(value, name);
         else if (key == "drift") alt.options.drift = r.named<Drift>(value, name);
         else if (key == "external_drift") alt.options.external_drift = resolve(r.string(value, name));
-        else if (key == "transform") alt.options.transform = r.named<Transform>(value, name);
+        else if (key == "transform") alt.transform = r.named<Transform>(value, name);
         else r.fail(value, name, "unknown key (keys of an alternative: label, method, drift, external_drift, transform)");
       }
       if (alt.label.empty()) r.fail(item, "crossval.also", "each alternative needs a label");
-      // A drift belongs to universal kriging: another method drops the study's.
-      if (alt.options.method != KrigingMethod::universal && !t->contains("drift"))
-        alt.options.drift = Drift::none;
       st.crossval_also.push_back(alt);
     }
   }
@@ -340,7 +339,7 @@ std::string study_settings_json(const Study& st) {
   for (const auto& a : st.crossval_also)
     also.push_back({{"label", a.label}, {"method", name_of(a.options.method)},
                     {"drift", name_of(a.options.drift)}, {"external_drift", a.options.external_drift},
-                    {"transform", name_of(a.options.transform)}});
+                    {"transform", a.transform ? json(name_of(*a.transform)) : json()}});
   j["crossval"] = {{"folds", st.crossval.folds}, {"skip", !st.crossval_enabled}, {"also", also}};
   j["neighbourhood"] = {{"max_points", no.max_points}, {"min_points", no.min_points},
                         {"radius", no.radius}, {"sectors", no.sectors},
@@ -350,7 +349,8 @@ std::string study_settings_json(const Study& st) {
   j["kriging"] = {{"method", name_of(ko.method)}, {"mean", num(ko.mean)},
                   {"drift", name_of(ko.drift)}, {"external_drift", ko.external_drift},
                   {"block", ko.block}, {"discretise", ko.discretise},
-                  {"transform", name_of(ko.transform)}, {"threshold", num(ko.threshold)},
+                  {"transform", st.kriging_transform ? json(name_of(*st.kriging_transform)) : json()},
+                  {"threshold", num(ko.threshold)},
                   {"threads", ko.threads}};
   j["output"] = {{"dir", st.output_dir}, {"format", st.format}, {"overwrite", st.overwrite}};
   j["report"] = {{"title", st.report.title}, {"units", st.report.units},

@@ -111,6 +111,48 @@ void check_row(const VariogramRow& r, const InputLocation& where) {
     throw InputError(kComponent, where, "lag_from must be >= 0 and below lag_to");
 }
 
+// The two trailing columns that record the transform (absent in tables of
+// earlier versions: then `transform_recorded` is false and `fit` asks).
+constexpr const char* kTransformColumns[] = {"transform", "log_offset"};
+
+void read_csv_header(const std::vector<std::string>& f, const InputLocation& where,
+                     EmpiricalVariogram* v) {
+  for (std::size_t k = 0; k < 6; ++k)
+    if (k >= f.size() || f[k] != kColumns[k])
+      throw InputError(kComponent, where,
+                       "the header must be azimuth,dip,lag_from,lag_to,mean_distance,pairs,"
+                       "<semivariance|covariance|correlation>[,transform,log_offset]");
+  if (f.size() != 7 && f.size() != 9)
+    throw InputError(kComponent, where,
+                     "the header must have 7 or 9 columns, it has " + std::to_string(f.size()));
+  v->options.statistic = statistic_of_column(f[6], {where.file, where.row, "column 7"});
+  v->transform_recorded = f.size() == 9;
+  if (v->transform_recorded && (f[7] != kTransformColumns[0] || f[8] != kTransformColumns[1]))
+    throw InputError(kComponent, where, "columns 8 and 9 must be transform,log_offset");
+}
+
+// Columns 8 and 9 of a data row: the same transform on every row.
+void read_csv_transform(const std::vector<std::string>& f, const InputLocation& kind_at,
+                        const InputLocation& offset_at, bool first, EmpiricalVariogram* v) {
+  Transform kind = Transform::none;
+  bool known = false;
+  for (const Transform t : {Transform::none, Transform::log, Transform::normal_score})
+    if (f[7] == name_of(t)) kind = t, known = true;
+  if (!known)
+    throw InputError(kComponent, kind_at,
+                     "expected none, log or normal-score, found '" + f[7] + "'");
+  const double offset = f[8].empty() ? 0.0 : parse_number(f[8], offset_at, false);
+  if (kind != Transform::log && offset != 0)
+    throw InputError(kComponent, offset_at, "a log_offset is given for transform " + f[7]);
+  const InputLocation& where = kind_at;
+  if (first) {
+    v->options.transform = kind;
+    v->options.log_offset = offset;
+  } else if (kind != v->options.transform || offset != v->options.log_offset) {
+    throw InputError(kComponent, where, "every row must have the same transform and log_offset");
+  }
+}
+
 EmpiricalVariogram read_csv(const std::string& path) {
   std::ifstream in(path, std::ios::binary);
   if (!in) throw InputError(kComponent, path + ": cannot be opened");
@@ -125,23 +167,20 @@ EmpiricalVariogram read_csv(const std::string& path) {
     const std::string row_name = "line " + std::to_string(number);
     const std::vector<std::string> f = split(line);
     if (!header) {
-      for (std::size_t k = 0; k < 6; ++k)
-        if (k >= f.size() || f[k] != kColumns[k])
-          throw InputError(kComponent, InputLocation{path, row_name, ""},
-                           "the header must be azimuth,dip,lag_from,lag_to,mean_distance,pairs,"
-                           "<semivariance|covariance|correlation>");
-      if (f.size() != 7)
-        throw InputError(kComponent, InputLocation{path, row_name, ""},
-                         "the header must have 7 columns, it has " + std::to_string(f.size()));
-      v.options.statistic = statistic_of_column(f[6], {path, row_name, "column 7"});
+      read_csv_header(f, InputLocation{path, row_name, ""}, &v);
       header = true;
       continue;
     }
-    if (f.size() != 7)
+    const std::size_t columns = v.transform_recorded ? 9 : 7;
+    if (f.size() != columns)
       throw InputError(kComponent, InputLocation{path, row_name, ""},
-                       "expected 7 fields, found " + std::to_string(f.size()));
+                       "expected " + std::to_string(columns) + " fields, found " +
+                           std::to_string(f.size()));
     auto at = [&](std::size_t k) {
-      return InputLocation{path, row_name, k < 6 ? kColumns[k] : value_column(v.options.statistic)};
+      return InputLocation{path, row_name,
+                           k < 6   ? kColumns[k]
+                           : k == 6 ? value_column(v.options.statistic)
+                                    : kTransformColumns[k - 7]};
     };
     VariogramRow r;
     const double azimuth = parse_number(f[0], at(0), true), dip = parse_number(f[1], at(1), true);
@@ -155,6 +194,7 @@ EmpiricalVariogram read_csv(const std::string& path) {
       throw InputError(kComponent, at(5), "the pair count must be a whole number >= 0");
     r.pairs = static_cast<std::uint64_t>(pairs);
     r.value = parse_number(f[6], at(6), true);
+    if (v.transform_recorded) read_csv_transform(f, at(7), at(8), v.rows.empty(), &v);
     check_row(r, {path, row_name, ""});
     v.rows.push_back(r);
   }
@@ -316,10 +356,15 @@ std::string direction_label(const VariogramRow& r) {
 std::string variogram_to_csv(const EmpiricalVariogram& v) {
   std::string out;
   for (const char* c : kColumns) out += std::string(c) + ",";
-  out += value_column(v.options.statistic) + "\n";
+  out += value_column(v.options.statistic) + ",";
+  out += std::string(kTransformColumns[0]) + "," + kTransformColumns[1] + "\n";
+  const Transform kind = v.options.transform;
+  const std::string transform = std::string(name_of(kind)) + "," +
+                                (kind == Transform::log ? cell(v.options.log_offset) : "");
   for (const auto& r : v.rows)
     out += cell(r.azimuth) + "," + cell(r.dip) + "," + cell(r.lag_from) + "," + cell(r.lag_to) +
-           "," + cell(r.mean_distance) + "," + std::to_string(r.pairs) + "," + cell(r.value) + "\n";
+           "," + cell(r.mean_distance) + "," + std::to_string(r.pairs) + "," + cell(r.value) +
+           "," + transform + "\n";
   return out;
 }
 

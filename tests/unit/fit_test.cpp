@@ -541,14 +541,17 @@ TEST_CASE("bad variograms are refused with InputError", "[fit]") {
 TEST_CASE("the model file carries the model, the transform and the fit object", "[fit]") {
   EmpiricalVariogram v = noise_free(parse_model_spec("0.2 nugget + 1 spherical(range=300)"));
   v.options.transform = Transform::log;
+  v.options.log_offset = 2.5;
   FitOptions o = with({Family::nugget, Family::spherical}, FitWeights::pairs);
   o.fixed = parse_fixes("nugget=0.2");
   const FitResult r = fit_model(v, o);
   const ModelFile file = fitted_model_file(r, {});
-  CHECK(file.transform == Transform::log);
+  CHECK(file.transform.kind == Transform::log);
+  CHECK(file.transform.log_offset == 2.5);
   const ModelFile back = model_from_json(model_to_json(file), "model.json");
   CHECK(back.model == r.model);
-  CHECK(back.transform == Transform::log);
+  CHECK(back.transform.kind == Transform::log);
+  CHECK(back.transform.log_offset == 2.5);  // the offset travels with the model
   const auto fit = nlohmann::json::parse(back.fit);
   CHECK(fit["weights"] == "pairs");
   CHECK(fit["objective"].get<double>() == r.objective);

@@ -451,7 +451,9 @@ TEST_CASE("to_spec writes the canonical SPEC, which reads back to the same model
     const CovarianceModel m(structures);
     INFO(to_spec(m));
     CHECK(parse_model_spec(to_spec(m)) == m);
-    CHECK(model_from_json(model_to_json({m, Transform::none, ""}), "memory").model == m);
+    ModelFile file;
+    file.model = m;
+    CHECK(model_from_json(model_to_json(file), "memory").model == m);
   }
 }
 
@@ -469,7 +471,8 @@ TEST_CASE("model.json of the contract reads into the contract's SPEC model", "[m
   const ModelFile f = model_from_json(text, "model.json");
   CHECK(f.model == parse_model_spec("0.2 nugget + 1.1 spherical(range=450) + "
                                     "0.4 exponential(range=2000, azimuth=30, ratio=0.5)"));
-  CHECK(f.transform == Transform::none);
+  CHECK(f.transform.kind == Transform::none);
+  CHECK(f.transform_recorded);
   CHECK(f.fit == R"({"weights":"cressie","objective":0.0123,"lags_used":12})");
 }
 
@@ -478,7 +481,9 @@ TEST_CASE("model.json is written in the documented layout and reads back", "[mod
   f.model = parse_model_spec(
       "0.2 nugget + 1.1 spherical(range=450) + 0.4 matern(range=2000.5, nu=1.5, azimuth=30, "
       "ratio=0.5, dip=10) + 0.003 power(exponent=1.2)");
-  f.transform = Transform::normal_score;
+  f.transform.kind = Transform::normal_score;
+  f.transform.table.values = {0.5, 2.25};
+  f.transform.table.scores = {-0.5, 0.5};
   f.fit = R"({"weights":"pairs","objective":1.5})";
   const std::string text = model_to_json(f);
   CHECK(text ==
@@ -512,7 +517,23 @@ TEST_CASE("model.json is written in the documented layout and reads back", "[mod
       "exponent": 1.2
     }
   ],
-  "transform": "normal-score",
+  "transform": {
+    "kind": "normal-score",
+    "table": [
+      [
+        0.5,
+        -0.5
+      ],
+      [
+        2.25,
+        0.5
+      ]
+    ],
+    "tails": {
+      "below": "first value",
+      "above": "last value"
+    }
+  },
   "fit": {
     "weights": "pairs",
     "objective": 1.5
@@ -521,11 +542,15 @@ TEST_CASE("model.json is written in the documented layout and reads back", "[mod
 )");
   const ModelFile back = model_from_json(text, "model.json");
   CHECK(back.model == f.model);
-  CHECK(back.transform == f.transform);
+  CHECK(back.transform.same_as(f.transform));
+  CHECK(back.transform_recorded);
   CHECK(back.fit == f.fit);
   // Without transform and fit: the defaults.
   const ModelFile bare = model_from_json(R"({"structures":[{"family":"nugget","sill":1}]})", "m");
-  CHECK(bare.transform == Transform::none);
+  CHECK(bare.transform.kind == Transform::none);
+  CHECK_FALSE(bare.transform_recorded);
+  REQUIRE(bare.notes.size() == 1);
+  CHECK_THAT(bare.notes[0], Catch::Contains("does not record a transform"));
   CHECK(bare.fit.empty());
 }
 
@@ -572,10 +597,13 @@ TEST_CASE("load_model takes a JSON file path or a SPEC (the --model option)", "[
                 R"({"structures":[{"family":"gaussian","sill":2,"range":70}],"transform":"log"})");
   const ModelFile from_file = load_model(path);
   CHECK(from_file.model == parse_model_spec("2 gaussian(range=70)"));
-  CHECK(from_file.transform == Transform::log);
+  CHECK(from_file.transform.kind == Transform::log);  // the text form of older files
+  CHECK(from_file.transform.log_offset == 0);
+  CHECK(from_file.transform_recorded);
   const ModelFile from_spec = load_model("2 gaussian(range=70)");
   CHECK(from_spec.model == from_file.model);
-  CHECK(from_spec.transform == Transform::none);
+  CHECK(from_spec.transform.kind == Transform::none);
+  CHECK_FALSE(from_spec.transform_recorded);
   CHECK(error_of([&] { load_model(dir.path("missing.json")); }) ==
         "model: " + dir.path("missing.json") + ": cannot open the model file");
   CHECK_THAT(error_of([] { load_model("2 gausian(range=70)"); }), Catch::Contains("column 3"));

@@ -5,6 +5,7 @@
 #include <random>
 
 #include "sillstone/normal_score.hpp"
+#include "sillstone/transform.hpp"
 
 using namespace sillstone;
 
@@ -66,4 +67,29 @@ TEST_CASE("the table takes scores back to data values", "[normal_score]") {
   CHECK(ns.table.back_transform(mid) == Approx(4.0).epsilon(1e-14));
   CHECK(ns.table.back_transform(-10) == 1.0);  // no tail model: clamped
   CHECK(ns.table.back_transform(10) == 9.0);
+}
+
+TEST_CASE("a value transform goes forward and says what it is", "[normal_score]") {
+  const ValueTransform none;
+  CHECK(none.forward(-3.5) == -3.5);
+  CHECK(none.describe() == "none");
+  const ValueTransform log0 = ValueTransform::logarithm(0), log5 = ValueTransform::logarithm(0.5);
+  CHECK(log0.describe() == "log(value)");
+  CHECK(log5.describe() == "log(value + 0.5)");
+  CHECK(log5.forward(1.5) == std::log(2.0));
+  CHECK(std::isnan(log0.forward(0)));  // log(0): outside the domain
+  CHECK(log5.accepts(-0.25));
+  CHECK_FALSE(log5.accepts(-0.5));
+  CHECK_FALSE(log0.same_as(log5));
+  CHECK(log5.same_as(ValueTransform::logarithm(0.5)));
+  // Normal scores: forward is the inverse of the table's back-transform.
+  const NormalScores ns = normal_scores({3.1, 0.4, 7.9, 0.4, 12.0});
+  ValueTransform t;
+  t.kind = Transform::normal_score;
+  t.table = ns.table;
+  const double lo = t.table.scores.front(), hi = t.table.scores.back();
+  for (double score = lo; score <= hi; score += (hi - lo) / 17)
+    CHECK(t.forward(t.table.back_transform(score)) == Approx(score).epsilon(1e-12));
+  CHECK(t.forward(-100) == t.table.scores.front());  // ends held
+  CHECK(t.describe() == "normal-score");
 }

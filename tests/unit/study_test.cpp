@@ -76,8 +76,7 @@ units = "mg/kg"
   CHECK(s.neighbourhood.max_points == 16);
   CHECK(s.grid.cell == std::vector<double>{10});
   CHECK(s.mask == dir.path("site.gpkg"));
-  CHECK(s.kriging.transform == Transform::log);
-  CHECK(s.kriging_transform_given);
+  CHECK(s.kriging_transform == Transform::log);
   CHECK(s.kriging.threshold == 450);
   CHECK(s.output_dir == dir.path("out"));
   CHECK(s.report.units == "mg/kg");

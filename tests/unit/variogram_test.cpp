@@ -308,7 +308,36 @@ TEST_CASE("CSV and JSON files read back to the same rows", "[variogram]") {
   std::ifstream csv(dir.path("v.csv"));
   std::string header;
   std::getline(csv, header);
-  CHECK(header == "azimuth,dip,lag_from,lag_to,mean_distance,pairs,correlation");
+  CHECK(header == "azimuth,dip,lag_from,lag_to,mean_distance,pairs,correlation,transform,log_offset");
+}
+
+TEST_CASE("a CSV variogram records its transform, and an older table says it does not", "[variogram]") {
+  test::ScratchDir dir;
+  VariogramOptions o = lags(60, 4);
+  o.transform = Transform::log;
+  o.log_offset = 2.5;
+  const EmpiricalVariogram v = compute_variogram(random_set(40, 9), o);
+  write_variogram(dir.path("log.csv"), v, false);
+  const EmpiricalVariogram back = read_variogram(dir.path("log.csv"));
+  CHECK(back.transform_recorded);
+  CHECK(transform_of(back).same_as(ValueTransform::logarithm(2.5)));
+  CHECK(transform_of(back).describe() == "log(value + 2.5)");
+  const EmpiricalVariogram old = read_variogram(
+      dir.write("old.csv",
+                "azimuth,dip,lag_from,lag_to,mean_distance,pairs,semivariance\n,,0,10,6,40,1.5\n"));
+  CHECK_FALSE(old.transform_recorded);
+  CHECK_THROWS_WITH(
+      read_variogram(dir.write(
+          "mixed.csv",
+          "azimuth,dip,lag_from,lag_to,mean_distance,pairs,semivariance,transform,log_offset\n"
+          ",,0,10,6,40,1.5,log,1\n,,10,20,15,40,1.7,none,\n")),
+      Catch::Contains("mixed.csv, line 3") && Catch::Contains("same transform"));
+  CHECK_THROWS_WITH(
+      read_variogram(dir.write(
+          "sqrt.csv",
+          "azimuth,dip,lag_from,lag_to,mean_distance,pairs,semivariance,transform,log_offset\n"
+          ",,0,10,6,40,1.5,sqrt,\n")),
+      Catch::Contains("sqrt.csv, line 2, column 'transform'"));
 }
 
 TEST_CASE("reading a damaged variogram file names line and column", "[variogram]") {
