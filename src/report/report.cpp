@@ -134,7 +134,7 @@ RasterGrid read_band(const std::string& path, int band, std::int64_t max_px) {
 
 std::string value_label(const ReportInput& in) {
   const std::string& name = in.samples->value_names.front();
-  const std::string& units = in.study->report.units;
+  const std::string& units = in.options.units;
   return units.empty() ? name : name + " (" + units + ")";
 }
 
@@ -416,7 +416,7 @@ void map_section(Html& h, const ReportInput& in, const std::vector<ExceedanceAre
   const SampleSet& s = *in.samples;
   const KrigingOptions& ko = *in.kriging;
   const bool logged = ko.transform == Transform::log;
-  const std::string& units_value = in.study->report.units;
+  const std::string& units_value = in.options.units;
   h.h2("maps", "Maps");
   const RasterGrid est = read_band(in.map_path, 1, 800);
   RasterGrid sd = read_band(in.map_path, 2, 800);
@@ -459,7 +459,7 @@ void map_section(Html& h, const ReportInput& in, const std::vector<ExceedanceAre
 
 void block_section(Html& h, const ReportInput& in) {
   const GridSpec& grid = *in.grid;
-  const Study& st = *in.study;
+  const ReportOptions& ro = in.options;
   const std::string units = map_units(*in.samples);
   h.h2("maps", "Block model");
   std::vector<double> grades;  // the estimate column of blocks.csv
@@ -473,8 +473,8 @@ void block_section(Html& h, const ReportInput& in) {
       if (c == 3) grades.push_back(cell.empty() ? std::nan("") : std::stod(cell));
   }
   const double volume = grid.dx * grid.dy * grid.dz;
-  const double density = st.report.density > 0 ? st.report.density : 1.0;
-  std::vector<double> cutoffs = st.report.cutoffs;
+  const double density = ro.density > 0 ? ro.density : 1.0;
+  std::vector<double> cutoffs = ro.cutoffs;
   if (cutoffs.empty()) {
     std::vector<double> g;
     for (double x : grades)
@@ -485,9 +485,11 @@ void block_section(Html& h, const ReportInput& in) {
   const auto gt = grade_tonnage(grades, volume, density, cutoffs);
   h.p("Blocks of " + num(grid.dx) + " × " + num(grid.dy) + " × " + num(grid.dz) + " " + units +
       " (" + num(volume) + " " + units + "³), " + std::to_string(grades.size()) + " in the table" +
-      (st.blocks.empty() ? std::string() : " (the block list " + esc(st.blocks) + ")") + "; density " +
-      (st.report.density > 0 ? num(density) + " t/m³ (from [report] density)"
-                             : std::string("not given, so tonnage is volume × 1")) + ".");
+      (in.block_list.empty() ? std::string() : " (the block list " + esc(in.block_list) + ")") +
+      "; density " +
+      (ro.density > 0 ? num(density) + " t/m³ (from [report] density)"
+                      : std::string("not given, so tonnage is volume × 1")) +
+      ".");
   std::vector<std::vector<std::string>> rows;
   DualAxisPlot dp;
   dp.title = "Grade–tonnage curve";
@@ -510,17 +512,16 @@ void block_section(Html& h, const ReportInput& in) {
 }  // namespace
 
 std::string render_report(const ReportInput& in) {
-  const Study& st = *in.study;
   const SampleSet& s = *in.samples;
   const DataSummary& sum = *in.summary;
   const KrigingOptions& ko = *in.kriging;
   const GridSpec& grid = *in.grid;
   const bool three_d = s.dimension == 3;
   const bool logged = ko.transform == Transform::log;
-  const std::string title =
-      st.report.title.empty()
-          ? "Study of " + s.value_names.front() + ": " + std::filesystem::path(s.source).filename().string()
-          : st.report.title;
+  const std::string title = in.options.title.empty()
+                                ? "Study of " + s.value_names.front() + ": " +
+                                      std::filesystem::path(s.source).filename().string()
+                                : in.options.title;
   Html h;
   h.out << "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">\n"
         << "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n"
@@ -567,7 +568,7 @@ std::string render_report(const ReportInput& in) {
 
   h.h2("settings", "Settings and inputs");
   const EmpiricalVariogram& v = *in.variogram;
-  const NeighbourhoodOptions& nb = st.neighbourhood;
+  const NeighbourhoodOptions& nb = in.neighbourhood;
   const std::string units = map_units(s);
   h.table({"setting", "value"},
           {{"samples", s.source},
@@ -577,15 +578,17 @@ std::string render_report(const ReportInput& in) {
                              ", transform " + v.summary.transform},
            {"model", to_spec(in.model->model)},
            {"kriging", std::string(name_of(ko.method)) + ", transform " +
-                           std::string(name_of(ko.transform)) + (ko.block.empty() ? ", points" : ", blocks")},
-           {"neighbourhood", nb.global ? std::string("global")
-                                       : "max " + std::to_string(nb.max_points) + ", min " +
-                                             std::to_string(nb.min_points) + ", radius " +
-                                             (nb.radius > 0 ? num(nb.radius) : std::string("unlimited"))},
+                           std::string(name_of(ko.transform)) +
+                           (ko.block.empty() ? ", points" : ", blocks")},
+           {"neighbourhood", nb.global
+                                 ? std::string("global")
+                                 : "max " + std::to_string(nb.max_points) + ", min " +
+                                       std::to_string(nb.min_points) + ", radius " +
+                                       (nb.radius > 0 ? num(nb.radius) : std::string("unlimited"))},
            {"grid", std::to_string(grid.nx) + " × " + std::to_string(grid.ny) +
                         (three_d ? " × " + std::to_string(grid.nz) : std::string()) + " cells of " +
                         num(grid.dx) + " " + units},
-           {"study file", st.path}});
+           {"study file", in.study_path.empty() ? std::string("none") : in.study_path}});
   std::vector<std::vector<std::string>> inputs;
   for (const auto& [path, sha] : in.inputs) inputs.push_back({path, sha});
   if (!inputs.empty()) h.table({"input", "SHA-256"}, inputs, "audit");

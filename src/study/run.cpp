@@ -278,7 +278,10 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
 
   stage("report");
   ReportInput report;
-  report.study = &st;
+  report.options = st.report;
+  report.study_path = st.path;
+  report.block_list = st.blocks;
+  report.neighbourhood = st.neighbourhood;
   report.samples = &samples;
   report.summary = &summary;
   report.variogram = &variogram;

@@ -163,7 +163,8 @@ int run() {
   const DataSummary summary = summarise(samples, {});
   const ModelFile model = fitted_model_file(fit, {});
   ReportInput in;
-  in.study = &study;
+  in.options = study.report;
+  in.study_path = study.path;
   in.samples = &samples;
   in.summary = &summary;
   in.variogram = &variogram;
