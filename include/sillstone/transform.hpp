@@ -3,7 +3,7 @@
 // A variogram, and so a covariance model, describes the values after this
 // transform; kriging back-transforms its estimates. The spelling of each value
 // ("none", "log", "normal-score") is the one of `--transform` and of the
-// "transform" key of model.json (src/core/names.cpp).
+// "transform" key of model.json (src/variogram/names.cpp).
 #pragma once
 
 namespace sillstone {

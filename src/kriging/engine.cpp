@@ -12,9 +12,9 @@
 #include <sstream>
 #include <tuple>
 
-#include "core/point_index.hpp"
 #include "kriging/dense.hpp"
 #include "models/kernel.hpp"
+#include "samples/point_index.hpp"
 #include "sillstone/error.hpp"
 #include "sillstone/kriging.hpp"
 #include "sillstone/names.hpp"
