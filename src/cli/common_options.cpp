@@ -6,9 +6,9 @@
 #include <cmath>
 #include <iostream>
 #include <memory>
-#include <sstream>
 
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/outputs.hpp"
 #include "sillstone/summary.hpp"
@@ -110,11 +110,7 @@ void check_variogram_options(const VariogramOptions& o) {
 
 namespace {
 
-std::string format(double x) {
-  std::ostringstream s;
-  s << x;
-  return s.str();
-}
+std::string format(double x) { return format_for_people(x, 6); }
 
 // Lag classes from the advice of `inspect` when none were given. Returns the note.
 std::string advise_lags(const SampleSet& samples, VariogramOptions* o) {

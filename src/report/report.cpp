@@ -10,6 +10,7 @@
 #include <memory>
 #include <sstream>
 
+#include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/plots.hpp"
 #include "sillstone/report.hpp"
@@ -32,12 +33,7 @@ std::string esc(const std::string& s) {
 }
 
 // Up to 4 significant digits for tables (full precision stays in the files).
-std::string num(double v, int digits = 4) {
-  if (!std::isfinite(v)) return "–";
-  std::ostringstream s;
-  s << std::setprecision(digits) << v;
-  return s.str();
-}
+std::string num(double v, int digits = 4) { return format_for_people(v, digits); }
 
 std::string area_text(double square_units) {
   std::ostringstream s;
@@ -358,9 +354,11 @@ void model_section(Html& h, const ReportInput& in) {
     h.p("Nugget-to-sill ratio " + num(100 * ratio, 3) + " %: " + cls +
         " spatial dependence (classes of Cambardella et al. 1994).");
   }
-  h.p("SPEC: <code>" + esc(to_spec(m)) + "</code>" +
+  h.p("SPEC, at 4 significant digits (model.json holds every digit): <code>" +
+      esc(to_spec_for_people(m)) + "</code>" +
       (in.model->transform != Transform::none
-           ? " (describes " + esc(std::string(name_of(in.model->transform))) + "-transformed values)"
+           ? " (describes " + esc(std::string(name_of(in.model->transform))) +
+                 "-transformed values)"
            : std::string()));
   if (!in.fit_table.empty()) h.out << "<pre>" << esc(in.fit_table) << "</pre>\n";
 }
@@ -544,7 +542,8 @@ std::string render_report(const ReportInput& in) {
   };
   key(std::to_string(s.size()), "sample locations (" + std::to_string(sum.load.rows_read) + " rows read)");
   key(num(sum.stats.front().mean) + " / " + num(sum.declustered.front().mean), "raw / declustered mean");
-  key(to_spec(in.model->model), std::string("covariance model") + (logged ? " (log scale)" : ""));
+  key(to_spec_for_people(in.model->model),
+      std::string("covariance model") + (logged ? " (log scale)" : ""));
   if (in.crossval)
     key(num(in.crossval->summary.rmse) + " · " +
             num(in.crossval->summary.mean_squared_standardised_error, 3),
@@ -576,7 +575,7 @@ std::string render_report(const ReportInput& in) {
            {"variogram", "lag " + num(v.options.lag) + " × " + std::to_string(v.options.lags) +
                              ", estimator " + std::string(name_of(v.options.estimator)) +
                              ", transform " + v.summary.transform},
-           {"model", to_spec(in.model->model)},
+           {"model", to_spec_for_people(in.model->model)},
            {"kriging", std::string(name_of(ko.method)) + ", transform " +
                            std::string(name_of(ko.transform)) +
                            (ko.block.empty() ? ", points" : ", blocks")},

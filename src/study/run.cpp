@@ -10,10 +10,10 @@
 
 #include <nlohmann/json.hpp>
 
-#include "core/format.hpp"
 #include "core/sha256.hpp"
 #include "sillstone/crossval.hpp"
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/kriging.hpp"
 #include "sillstone/model.hpp"
 #include "sillstone/names.hpp"
@@ -188,7 +188,7 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
     vo.lag = summary.lags.lag;
     vo.lags = summary.lags.lags;
     result.notes.push_back("variogram classes from the suggested lags: " + std::to_string(vo.lags) +
-                           " of " + detail::shortest(vo.lag));
+                           " of " + format_for_file(vo.lag));
   }
   vo.surface = !three_d;
   vo.threads = st.kriging.threads;

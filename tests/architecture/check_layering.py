@@ -28,6 +28,7 @@ STAGES = ["core", "samples", "summary", "variogram", "models", "fitting", "krigi
 # include/sillstone/<name> -> stage
 PUBLIC_HEADERS = {
     "error.hpp": "core",        # InputError, the one error policy
+    "format.hpp": "core",       # format_for_file / format_for_people, the one number formatter
     "names.hpp": "core",        # name_of / parse_name (tables live with each enum's stage)
     "version.hpp": "core",
     "outputs.hpp": "core",      # temporary name + rename, interrupt clean-up: every stage writes
