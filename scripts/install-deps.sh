@@ -5,6 +5,7 @@ set -euo pipefail
 
 packages=(
   cmake g++ make pkg-config            # build
+  clang-format                         # the committed .clang-format (scripts/check-format.sh)
   libgdal-dev gdal-bin                 # samples and rasters (GDAL/OGR/OSR)
   libeigen3-dev                        # linear algebra
   libnanoflann-dev                     # k-d tree neighbour search

@@ -163,6 +163,12 @@ CovarianceModel parse_model_spec(const std::string& spec);
 /// exact form. parse_model_spec(to_spec(m)) == m.
 std::string to_spec(const CovarianceModel& model);
 
+/// The SPEC of `model` as people read it in tables, messages and the report:
+/// as to_spec, each number at `significant` significant digits
+/// (format_for_people), e.g. "0.6249 spherical(range=125.4)". It need not
+/// read back to exactly `model`: files keep to_spec's full precision.
+std::string to_spec_for_people(const CovarianceModel& model, int significant = 4);
+
 /// The contents of a model.json file (layout in docs/models.md).
 struct ModelFile {
   CovarianceModel model;

@@ -1,9 +1,11 @@
-// sillstone/names.hpp -- enum <-> name conversions, in one place.
+// sillstone/names.hpp -- enum <-> name conversions: one spelling per value.
 //
 // Every enumerated setting (below-detection policy, duplicate policy, and the
 // settings of later stages) has exactly one spelling, used alike by the
 // command line, JSON, study files and reports. The tables live in
-// src/core/names.cpp; adding an enum means adding one table there.
+// src/<stage>/names.cpp of the stage that defines the enum (samples,
+// variogram, models, fitting, kriging); adding an enum means adding one table
+// there (see src/core/name_table.hpp).
 //
 // Example:
 //   auto policy = sillstone::parse_name<sillstone::BelowDetection>("half", "--below-detection");

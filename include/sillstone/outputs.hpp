@@ -5,7 +5,8 @@
 // either the previous file or no file under the final name, never a
 // truncated one. Existing outputs are replaced only with `overwrite`.
 // Temporary files are removed on SIGINT and SIGTERM (exit status 130 / 143)
-// once install_interrupt_cleanup() has run.
+// once install_interrupt_cleanup() has run. A core helper: every stage that
+// writes a file writes through it (src/core/pending_output.cpp).
 //
 // Example:
 //   sillstone::check_output_path("out/model.json", overwrite);  // before any work

@@ -15,16 +15,28 @@
 #include "sillstone/grid.hpp"
 #include "sillstone/kriging.hpp"
 #include "sillstone/model.hpp"
+#include "sillstone/neighbourhood.hpp"
 #include "sillstone/samples.hpp"
-#include "sillstone/study.hpp"
 #include "sillstone/summary.hpp"
 #include "sillstone/variogram.hpp"
 
 namespace sillstone {
 
+/// Settings of the report that are not the verbs' ([report] of a study file).
+struct ReportOptions {
+  std::string title;            ///< default: from the samples' file name
+  std::string units;            ///< units of the value, e.g. "mg/kg"
+  double density = 0;           ///< t/m3 for grade-tonnage tables; 0: none
+  std::vector<double> cutoffs;  ///< grade-tonnage cut-offs; empty: chosen from the data
+};
+
 /// Everything the report shows; pointers are to the run's objects (not owned).
+/// Filled by whoever ran the stages (the study runner, or a program of its own).
 struct ReportInput {
-  const Study* study = nullptr;
+  ReportOptions options;
+  std::string study_path;              ///< shown in the settings; empty: none
+  std::string block_list;              ///< the block list of a 3D block model; empty: none
+  NeighbourhoodOptions neighbourhood;  ///< as used by the kriging
   const SampleSet* samples = nullptr;
   const DataSummary* summary = nullptr;
   const EmpiricalVariogram* variogram = nullptr;

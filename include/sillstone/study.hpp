@@ -32,6 +32,7 @@
 #include "sillstone/kriging.hpp"
 #include "sillstone/model.hpp"
 #include "sillstone/neighbourhood.hpp"
+#include "sillstone/report.hpp"  // ReportOptions, the [report] section
 #include "sillstone/samples.hpp"
 #include "sillstone/variogram.hpp"
 
@@ -44,14 +45,6 @@ struct ModelChoice {
   std::vector<std::string> structures;  ///< Kind::fit: families, e.g. {"nugget", "spherical"}
   std::string weights = "cressie";      ///< Kind::fit and automatic
   std::vector<std::string> fix;         ///< Kind::fit: holds such as "range=450"
-};
-
-/// Settings of the report that are not the verbs'.
-struct ReportOptions {
-  std::string title;                 ///< default: from the samples' file name
-  std::string units;                 ///< units of the value, e.g. "mg/kg"
-  double density = 0;                ///< t/m3 for grade-tonnage tables; 0: none
-  std::vector<double> cutoffs;       ///< grade-tonnage cut-offs; empty: chosen from the data
 };
 
 /// Another kriging set-up to compare by cross-validation ([crossval] also):
@@ -81,7 +74,7 @@ struct Study {
   std::string output_dir;
   std::string format;
   bool overwrite = false;
-  ReportOptions report;
+  ReportOptions report;  ///< [report] (report.hpp)
 };
 
 /// Where a run goes and how it talks.

@@ -6,7 +6,7 @@
 // copies it into model.json, and kriging, cross-validation and the report use
 // the model's. The spelling of each kind ("none", "log", "normal-score") is
 // the one of `--transform` and of the "transform" object of model.json
-// (src/core/names.cpp).
+// (src/variogram/names.cpp).
 //
 // Example:
 //   sillstone::ValueTransform t = sillstone::ValueTransform::logarithm(0.5);

@@ -6,9 +6,9 @@
 #include <cmath>
 #include <iostream>
 #include <memory>
-#include <sstream>
 
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/outputs.hpp"
 #include "sillstone/summary.hpp"

@@ -6,7 +6,6 @@
 #include <cmath>
 #include <limits>
 #include <map>
-#include <sstream>
 #include <string>
 #include <utility>
 #include <vector>
@@ -14,6 +13,7 @@
 #include "fitting/fit_detail.hpp"
 #include "models/model_detail.hpp"
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
 
 namespace sillstone {
@@ -40,13 +40,7 @@ constexpr double kStartTie = 1e-9;  // relative objective difference that decide
                                     // relative distance that counts as at a bound
 
 // Short numbers for messages and the table (6 significant digits).
-std::string num(double x, int digits = 6) {
-  if (std::isnan(x)) return "n/a";
-  std::ostringstream s;
-  s.precision(digits);
-  s << x;
-  return s.str();
-}
+std::string num(double x, int digits = 6) { return format_for_people(x, digits); }
 
 std::string label(std::size_t i, Family f) {
   return "structure " + std::to_string(i + 1) + " (" + std::string(name_of(f)) + ")";

@@ -3,12 +3,12 @@
 #include <cmath>
 #include <iomanip>
 #include <ostream>
-#include <sstream>
 #include <string>
 
 #include <nlohmann/json.hpp>  // ordered_json: keys in the documented order
 
 #include "sillstone/fit.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/version.hpp"
 
@@ -19,13 +19,7 @@ using Json = nlohmann::ordered_json;
 
 Json number(double x) { return std::isfinite(x) ? Json(x) : Json(); }
 
-std::string num(double x, int digits = 6) {
-  if (!std::isfinite(x)) return "-";
-  std::ostringstream s;
-  s.precision(digits);
-  s << x;
-  return s.str();
-}
+std::string num(double x, int digits = 6) { return format_for_people(x, digits); }
 
 std::string families(const FitResult& r) {
   std::string out;
@@ -181,7 +175,7 @@ void write_fit_text(std::ostream& out, const FitResult& best,
       << num(best.largest_lag);
   if (best.samples > 0) out << "; " << best.samples << " samples";
   out << "\n";
-  out << "Model        " << to_spec(best.model) << "\n\n";
+  out << "Model        " << to_spec_for_people(best.model) << "\n\n";
 
   const int dimension = dimension_of(best);
   const bool anisotropic = !best.model.is_isotropic();
@@ -198,13 +192,15 @@ void write_fit_text(std::ostream& out, const FitResult& best,
   for (std::size_t i = 0; i < structures.size(); ++i) {
     const Structure& s = structures[i];
     const Ranges r = ranges_of(s, dimension);
+    // A structure without a range (nugget, power) shows "-": not applicable.
+    const auto range = [](double x) { return std::isnan(x) ? std::string("-") : num(x); };
     out << std::right << std::setw(3) << i + 1 << " " << std::left << std::setw(13)
         << name_of(s.family) << std::right << std::setw(13) << num(s.sill) << std::setw(13)
-        << num(r.major);
+        << range(r.major);
     const bool shaped = s.family != Family::nugget;
     if (anisotropic) {
-      out << std::setw(13) << num(r.minor);
-      if (dimension == 3) out << std::setw(13) << num(r.third);
+      out << std::setw(13) << range(r.minor);
+      if (dimension == 3) out << std::setw(13) << range(r.third);
       out << std::setw(10) << (shaped ? num(s.anisotropy.azimuth) : "-") << std::setw(8)
           << (shaped ? num(s.anisotropy.ratio, 4) : "-");
       if (dimension == 3)

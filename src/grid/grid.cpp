@@ -2,9 +2,9 @@
 
 #include <cmath>
 #include <memory>
-#include <sstream>
 
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/grid.hpp"
 
 namespace sillstone {
@@ -12,12 +12,7 @@ namespace {
 
 constexpr const char* kComponent = "grid";
 
-std::string number(double v) {
-  std::ostringstream s;
-  s.precision(12);
-  s << v;
-  return s.str();
-}
+std::string number(double v) { return format_for_people(v, 12); }
 
 // Number of whole cells covering [lo, hi]; a remainder under 1e-9 of a cell
 // counts as none (extents typed in decimals are rarely exact multiples).

@@ -11,9 +11,9 @@
 
 #include <nlohmann/json.hpp>
 
-#include "core/format.hpp"
 #include "sillstone/crossval.hpp"
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 
 namespace sillstone {
 namespace {
@@ -40,7 +40,7 @@ SampleSet with_values(const SampleSet& s, std::size_t column, const std::vector<
   return out;
 }
 
-std::string num(double v) { return detail::shortest(v); }
+std::string num(double v) { return format_for_file(v); }
 
 }  // namespace
 
@@ -276,11 +276,9 @@ std::string crossval_summary_text(const CrossValidationResult& r) {
   out << "Cross-validation (" << (s.folds >= 2 ? std::to_string(s.folds) + "-fold" : "leave-one-out")
       << "): " << s.estimated << " of " << s.samples << " samples estimated\n";
   auto line = [&out](const char* label, double v, const char* ideal) {
-    out << "  " << std::left << std::setw(36) << label << std::right << std::setw(14);
-    if (std::isfinite(v))
-      out << std::setprecision(6) << v;
-    else
-      out << "-";  // undefined; a warning says why
+    // An undefined figure is kMissingForPeople; a warning says why.
+    out << "  " << std::left << std::setw(36) << label << std::right << std::setw(14)
+        << format_for_people(v, 6);
     out << "   " << ideal << "\n";
   };
   line("mean error (ME)", s.mean_error, "ideally 0");

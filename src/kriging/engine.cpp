@@ -9,13 +9,13 @@
 #include <cmath>
 #include <iterator>
 #include <limits>
-#include <sstream>
 #include <tuple>
 
-#include "core/point_index.hpp"
 #include "kriging/dense.hpp"
 #include "models/kernel.hpp"
+#include "samples/point_index.hpp"
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/kriging.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/summary.hpp"
@@ -43,12 +43,7 @@ constexpr std::size_t kFewSamples = 10;
 constexpr double kNearDuplicate = 1e-6;
 constexpr int kMaxThreads = 1024;
 
-std::string fmt(double v) {
-  std::ostringstream s;
-  s.precision(10);
-  s << v;
-  return s.str();
-}
+std::string fmt(double v) { return format_for_people(v, 10); }
 
 int drift_columns(const KrigingOptions& o, int dimension) {
   if (o.method == KrigingMethod::simple) return 0;
@@ -496,11 +491,9 @@ void KrigingEngine::diagnose(const SampleSet& samples, const std::vector<std::si
     if (model_.variogram(a.x - b.x, a.y - b.y, a.z - b.z) < kNearDuplicate * sill) {
       ++near;
       if (pairs.size() < 5) {
-        std::ostringstream s;
-        s.precision(3);
-        s << samples.ids[used[i]] << " and " << samples.ids[used[j]] << ", "
-          << std::hypot(a.x - b.x, a.y - b.y, a.z - b.z) << " apart";
-        pairs.push_back(s.str());
+        pairs.push_back(samples.ids[used[i]] + " and " + samples.ids[used[j]] + ", " +
+                        format_for_people(std::hypot(a.x - b.x, a.y - b.y, a.z - b.z), 3) +
+                        " apart");
       }
     }
   }

@@ -16,10 +16,9 @@
 #include <future>
 #include <limits>
 #include <memory>
-#include <sstream>
 
-#include "core/format.hpp"
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/kriging.hpp"
 #include "sillstone/outputs.hpp"
 #include "sillstone/raster.hpp"
@@ -202,7 +201,7 @@ void tally(const std::vector<NodeEstimate>& block, KrigingSummary& s) {
 void check_mask(const std::string& path, const GridSpec& grid) { Mask(path, grid); }
 
 std::string probability_name(double threshold) {
-  return "probability_above_" + detail::shortest(threshold);
+  return "probability_above_" + format_for_file(threshold);
 }
 
 std::vector<std::string> describe(const KrigingSummary& s, const std::string& target) {
@@ -255,10 +254,7 @@ std::string bytes_text(double bytes) {
     bytes /= 1000;
     ++u;
   }
-  std::ostringstream s;
-  s.precision(bytes < 10 ? 2 : 3);
-  s << bytes << " " << units[u];
-  return s.str();
+  return format_for_people(bytes, bytes < 10 ? 2 : 3) + " " + units[u];
 }
 
 }  // namespace
@@ -505,7 +501,7 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
           if (c == 5)
             csv << e.neighbours;
           else
-            csv << detail::shortest(v[c]);
+            csv << format_for_file(v[c]);
         }
         csv << "\n";
       } else {

@@ -4,7 +4,7 @@
 #include <cmath>
 #include <limits>
 
-#include "core/point_index.hpp"
+#include "samples/point_index.hpp"
 
 #if defined(__SSE2__)
 #include <emmintrin.h>

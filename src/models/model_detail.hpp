@@ -44,7 +44,9 @@ std::optional<Fault> check_structure(const Structure& s);
 /// (structures.size() when the fault is the model's as a whole).
 std::optional<Fault> check_model(const std::vector<Structure>& structures, std::size_t* index);
 
-/// The shortest text that reads back as exactly `x` ("450", "0.2", "1e-05").
+/// The shortest text that reads back as exactly `x` ("450", "0.2", "1e-05";
+/// format_for_file), for SPEC strings and messages that quote a value; a
+/// value that is not finite is spelled as format_for_people does.
 std::string number_text(double x);
 
 /// Builds the evaluation form of a valid structure.

@@ -15,6 +15,7 @@
 
 #include "models/model_detail.hpp"
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
 
 namespace sillstone {
@@ -189,14 +190,18 @@ class SpecParser {
 
 CovarianceModel parse_model_spec(const std::string& spec) { return SpecParser(spec).parse(); }
 
-std::string to_spec(const CovarianceModel& model) {
+namespace {
+
+// The SPEC text of `model` with each number written by `number`.
+template <class Number>
+std::string spec_text(const CovarianceModel& model, const Number& number) {
   std::string out;
   for (const Structure& s : model.structures()) {
     if (!out.empty()) out += " + ";
-    out += detail::number_text(s.sill) + " " + std::string(name_of(s.family));
+    out += number(s.sill) + " " + std::string(name_of(s.family));
     std::vector<std::string> parameters;
-    const auto add = [&parameters](const char* key, double value) {
-      parameters.push_back(std::string(key) + "=" + detail::number_text(value));
+    const auto add = [&parameters, &number](const char* key, double value) {
+      parameters.push_back(std::string(key) + "=" + number(value));
     };
     if (detail::takes_range(s.family)) add("range", s.range);
     if (s.family == Family::matern) add("nu", s.nu);
@@ -211,6 +216,16 @@ std::string to_spec(const CovarianceModel& model) {
     if (!parameters.empty()) out += "(" + joined(parameters) + ")";
   }
   return out;
+}
+
+}  // namespace
+
+std::string to_spec(const CovarianceModel& model) {
+  return spec_text(model, [](double x) { return detail::number_text(x); });
+}
+
+std::string to_spec_for_people(const CovarianceModel& model, int significant) {
+  return spec_text(model, [significant](double x) { return format_for_people(x, significant); });
 }
 
 }  // namespace sillstone

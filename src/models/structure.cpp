@@ -1,10 +1,10 @@
 // What each family takes and the validity rules of structures and models
 // (docs/models.md, "Validity rules").
-#include <charconv>
 #include <cmath>
 #include <string>
 
 #include "models/model_detail.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
 
 namespace sillstone {
@@ -42,9 +42,7 @@ void set_parameter(Structure* s, const std::string& key, double value) {
 }
 
 std::string number_text(double x) {
-  char buffer[32];
-  const auto result = std::to_chars(buffer, buffer + sizeof buffer, x);
-  return std::string(buffer, result.ptr);
+  return std::isfinite(x) ? format_for_file(x) : format_for_people(x);
 }
 
 namespace {

@@ -5,7 +5,7 @@
 #include <cmath>
 #include <filesystem>
 
-#include "core/format.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/error.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/summary.hpp"
@@ -34,7 +34,7 @@ std::string neighbourhood_text(const NeighbourhoodOptions& n) {
   if (n.global) return "global (every sample)";
   return "max_points=" + std::to_string(n.max_points) +
          " min_points=" + std::to_string(n.min_points) +
-         " radius=" + (n.radius > 0 ? detail::shortest(n.radius) : std::string("unlimited")) +
+         " radius=" + (n.radius > 0 ? format_for_file(n.radius) : std::string("unlimited")) +
          " sectors=" + std::to_string(n.sectors) +
          " max_per_sector=" + std::to_string(n.max_per_sector);
 }
@@ -70,14 +70,14 @@ void advise_lag_classes(const SampleSet& samples, VariogramOptions* o, StageLog*
   if (o->lags > 0) {  // a class count alone: the suggested reach, cut into that many classes
     o->max_distance = advice.max_distance;
     log->note("no lag width or maximum distance given; using the suggested maximum distance " +
-              detail::shortest(advice.max_distance) + " in " + std::to_string(o->lags) +
+              format_for_people(advice.max_distance, 6) + " in " + std::to_string(o->lags) +
               " classes (" + advice.rule + ")");
     return;
   }
   o->lag = advice.lag;
   o->lags = advice.lags;
   log->note("no lag width or maximum distance given; using the suggested lag " +
-            detail::shortest(advice.lag) + " and " + std::to_string(advice.lags) +
+            format_for_people(advice.lag, 6) + " and " + std::to_string(advice.lags) +
             " lags (" + advice.rule + ")");
 }
 
@@ -171,7 +171,7 @@ std::vector<std::pair<std::string, std::string>> map_metadata(
   if (!kriging.block.empty()) {
     std::string b;
     for (std::size_t i = 0; i < kriging.block.size(); ++i)
-      b += (i ? "," : "") + detail::shortest(kriging.block[i]);
+      b += (i ? "," : "") + format_for_file(kriging.block[i]);
     m.push_back({"SILLSTONE_BLOCK", b});
   }
   return m;

@@ -10,6 +10,7 @@
 #include <memory>
 #include <sstream>
 
+#include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/plots.hpp"
 #include "sillstone/report.hpp"
@@ -32,12 +33,7 @@ std::string esc(const std::string& s) {
 }
 
 // Up to 4 significant digits for tables (full precision stays in the files).
-std::string num(double v, int digits = 4) {
-  if (!std::isfinite(v)) return "–";
-  std::ostringstream s;
-  s << std::setprecision(digits) << v;
-  return s.str();
-}
+std::string num(double v, int digits = 4) { return format_for_people(v, digits); }
 
 std::string area_text(double square_units) {
   std::ostringstream s;
@@ -134,7 +130,7 @@ RasterGrid read_band(const std::string& path, int band, std::int64_t max_px) {
 
 std::string value_label(const ReportInput& in) {
   const std::string& name = in.samples->value_names.front();
-  const std::string& units = in.study->report.units;
+  const std::string& units = in.options.units;
   return units.empty() ? name : name + " (" + units + ")";
 }
 
@@ -358,7 +354,8 @@ void model_section(Html& h, const ReportInput& in) {
     h.p("Nugget-to-sill ratio " + num(100 * ratio, 3) + " %: " + cls +
         " spatial dependence (classes of Cambardella et al. 1994).");
   }
-  h.p("SPEC: <code>" + esc(to_spec(m)) + "</code>" +
+  h.p("SPEC, at 4 significant digits (model.json holds every digit): <code>" +
+      esc(to_spec_for_people(m)) + "</code>" +
       (in.model->transform.kind != Transform::none
            ? " (describes " + esc(in.model->transform.describe()) + ")"
            : std::string()));
@@ -422,7 +419,7 @@ void map_section(Html& h, const ReportInput& in, const std::vector<ExceedanceAre
   const SampleSet& s = *in.samples;
   const KrigingOptions& ko = *in.kriging;
   const bool logged = ko.transform.kind == Transform::log;
-  const std::string& units_value = in.study->report.units;
+  const std::string& units_value = in.options.units;
   h.h2("maps", "Maps");
   const RasterGrid est = read_band(in.map_path, 1, 800);
   RasterGrid sd = read_band(in.map_path, 2, 800);
@@ -465,7 +462,7 @@ void map_section(Html& h, const ReportInput& in, const std::vector<ExceedanceAre
 
 void block_section(Html& h, const ReportInput& in) {
   const GridSpec& grid = *in.grid;
-  const Study& st = *in.study;
+  const ReportOptions& ro = in.options;
   const std::string units = map_units(*in.samples);
   h.h2("maps", "Block model");
   std::vector<double> grades;  // the estimate column of blocks.csv
@@ -479,8 +476,8 @@ void block_section(Html& h, const ReportInput& in) {
       if (c == 3) grades.push_back(cell.empty() ? std::nan("") : std::stod(cell));
   }
   const double volume = grid.dx * grid.dy * grid.dz;
-  const double density = st.report.density > 0 ? st.report.density : 1.0;
-  std::vector<double> cutoffs = st.report.cutoffs;
+  const double density = ro.density > 0 ? ro.density : 1.0;
+  std::vector<double> cutoffs = ro.cutoffs;
   if (cutoffs.empty()) {
     std::vector<double> g;
     for (double x : grades)
@@ -491,9 +488,11 @@ void block_section(Html& h, const ReportInput& in) {
   const auto gt = grade_tonnage(grades, volume, density, cutoffs);
   h.p("Blocks of " + num(grid.dx) + " × " + num(grid.dy) + " × " + num(grid.dz) + " " + units +
       " (" + num(volume) + " " + units + "³), " + std::to_string(grades.size()) + " in the table" +
-      (st.blocks.empty() ? std::string() : " (the block list " + esc(st.blocks) + ")") + "; density " +
-      (st.report.density > 0 ? num(density) + " t/m³ (from [report] density)"
-                             : std::string("not given, so tonnage is volume × 1")) + ".");
+      (in.block_list.empty() ? std::string() : " (the block list " + esc(in.block_list) + ")") +
+      "; density " +
+      (ro.density > 0 ? num(density) + " t/m³ (from [report] density)"
+                      : std::string("not given, so tonnage is volume × 1")) +
+      ".");
   std::vector<std::vector<std::string>> rows;
   DualAxisPlot dp;
   dp.title = "Grade–tonnage curve";
@@ -516,17 +515,16 @@ void block_section(Html& h, const ReportInput& in) {
 }  // namespace
 
 std::string render_report(const ReportInput& in) {
-  const Study& st = *in.study;
   const SampleSet& s = *in.samples;
   const DataSummary& sum = *in.summary;
   const KrigingOptions& ko = *in.kriging;
   const GridSpec& grid = *in.grid;
   const bool three_d = s.dimension == 3;
   const bool logged = ko.transform.kind == Transform::log;
-  const std::string title =
-      st.report.title.empty()
-          ? "Study of " + s.value_names.front() + ": " + std::filesystem::path(s.source).filename().string()
-          : st.report.title;
+  const std::string title = in.options.title.empty()
+                                ? "Study of " + s.value_names.front() + ": " +
+                                      std::filesystem::path(s.source).filename().string()
+                                : in.options.title;
   Html h;
   h.out << "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">\n"
         << "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n"
@@ -549,7 +547,8 @@ std::string render_report(const ReportInput& in) {
   };
   key(std::to_string(s.size()), "sample locations (" + std::to_string(sum.load.rows_read) + " rows read)");
   key(num(sum.stats.front().mean) + " / " + num(sum.declustered.front().mean), "raw / declustered mean");
-  key(to_spec(in.model->model), std::string("covariance model") + (logged ? " (log scale)" : ""));
+  key(to_spec_for_people(in.model->model),
+      std::string("covariance model") + (logged ? " (log scale)" : ""));
   if (in.crossval)
     key(num(in.crossval->summary.rmse) + " · " +
             num(in.crossval->summary.mean_squared_standardised_error, 3),
@@ -573,7 +572,7 @@ std::string render_report(const ReportInput& in) {
 
   h.h2("settings", "Settings and inputs");
   const EmpiricalVariogram& v = *in.variogram;
-  const NeighbourhoodOptions& nb = st.neighbourhood;
+  const NeighbourhoodOptions& nb = in.neighbourhood;
   const std::string units = map_units(s);
   h.table({"setting", "value"},
           {{"samples", s.source},
@@ -581,17 +580,19 @@ std::string render_report(const ReportInput& in) {
            {"variogram", "lag " + num(v.options.lag) + " × " + std::to_string(v.options.lags) +
                              ", estimator " + std::string(name_of(v.options.estimator)) +
                              ", transform " + v.summary.transform},
-           {"model", to_spec(in.model->model)},
+           {"model", to_spec_for_people(in.model->model)},
            {"kriging", std::string(name_of(ko.method)) + ", transform " +
-                           ko.transform.describe() + (ko.block.empty() ? ", points" : ", blocks")},
-           {"neighbourhood", nb.global ? std::string("global")
-                                       : "max " + std::to_string(nb.max_points) + ", min " +
-                                             std::to_string(nb.min_points) + ", radius " +
-                                             (nb.radius > 0 ? num(nb.radius) : std::string("unlimited"))},
+                           ko.transform.describe() +
+                           (ko.block.empty() ? ", points" : ", blocks")},
+           {"neighbourhood", nb.global
+                                 ? std::string("global")
+                                 : "max " + std::to_string(nb.max_points) + ", min " +
+                                       std::to_string(nb.min_points) + ", radius " +
+                                       (nb.radius > 0 ? num(nb.radius) : std::string("unlimited"))},
            {"grid", std::to_string(grid.nx) + " × " + std::to_string(grid.ny) +
                         (three_d ? " × " + std::to_string(grid.nz) : std::string()) + " cells of " +
                         num(grid.dx) + " " + units},
-           {"study file", st.path}});
+           {"study file", in.study_path.empty() ? std::string("none") : in.study_path}});
   std::vector<std::vector<std::string>> inputs;
   for (const auto& [path, sha] : in.inputs) inputs.push_back({path, sha});
   if (!inputs.empty()) h.table({"input", "SHA-256"}, inputs, "audit");

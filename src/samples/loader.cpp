@@ -16,10 +16,10 @@
 #include <memory>
 #include <mutex>
 #include <numeric>
-#include <sstream>
 
 #include "samples/csv_lines.hpp"
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/samples.hpp"
 
@@ -533,11 +533,9 @@ void require_variation(const SampleSet& samples, std::size_t column, const std::
       varies = true;
   }
   if (varies || count == 0) return;
-  std::ostringstream value;
-  value.precision(10);
-  value << first;
   throw InputError(component, InputLocation{samples.source, "", samples.value_names[column]},
-                   "all " + std::to_string(count) + " values are equal (" + value.str() +
+                   "all " + std::to_string(count) + " values are equal (" +
+                       format_for_people(first, 10) +
                        "): with zero variance there is no spatial variation to fit a model to");
 }
 

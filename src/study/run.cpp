@@ -10,10 +10,10 @@
 
 #include <nlohmann/json.hpp>
 
-#include "core/format.hpp"
 #include "core/sha256.hpp"
 #include "sillstone/crossval.hpp"
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/kriging.hpp"
 #include "sillstone/model.hpp"
 #include "sillstone/names.hpp"
@@ -254,7 +254,10 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
 
   stage("report");
   ReportInput report;
-  report.study = &st;
+  report.options = st.report;
+  report.study_path = st.path;
+  report.block_list = st.blocks;
+  report.neighbourhood = st.neighbourhood;
   report.samples = &samples;
   report.summary = &summary;
   report.variogram = &variogram;

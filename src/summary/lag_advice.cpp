@@ -4,7 +4,7 @@
 #include <cstdint>
 #include <sstream>
 
-#include "core/point_index.hpp"
+#include "samples/point_index.hpp"
 #include "sillstone/summary.hpp"
 
 namespace sillstone {

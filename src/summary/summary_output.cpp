@@ -7,6 +7,7 @@
 
 #include <nlohmann/json.hpp>
 
+#include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/summary.hpp"
 
@@ -15,16 +16,12 @@ namespace {
 
 nlohmann::json number(double x) { return std::isfinite(x) ? nlohmann::json(x) : nlohmann::json(); }
 
-// Up to 6 significant digits, without trailing noise; "-" for undefined.
-std::string fmt(double x) {
-  if (!std::isfinite(x)) return "-";
-  std::ostringstream s;
-  s << std::setprecision(6) << x;
-  return s.str();
-}
+// Up to 6 significant digits, without trailing noise.
+std::string fmt(double x) { return format_for_people(x, 6); }
 
+// A fixed number of decimals (percentages); undefined as format_for_people says.
 std::string fixed(double x, int decimals) {
-  if (!std::isfinite(x)) return "-";
+  if (!std::isfinite(x)) return format_for_people(x);
   std::ostringstream s;
   s << std::fixed << std::setprecision(decimals) << x;
   return s.str();

@@ -16,9 +16,9 @@
 #include <cstdint>
 #include <cstring>
 #include <limits>
-#include <sstream>
 
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/variogram.hpp"
 #include "variogram/pair_cells.hpp"
@@ -313,11 +313,7 @@ struct Accumulators {
   }
 };
 
-std::string format(double x) {
-  std::ostringstream s;
-  s << x;
-  return s.str();
-}
+std::string format(double x) { return format_for_people(x, 6); }
 
 // The values of the column, transformed; NaN where missing.
 std::vector<double> transformed_values(const SampleSet& samples, std::size_t column,

@@ -1,8 +1,8 @@
 // VariogramOptions: the validity check and the lag classes.
 #include <algorithm>
 #include <cmath>
-#include <sstream>
 
+#include "sillstone/format.hpp"
 #include "sillstone/variogram.hpp"
 
 namespace sillstone {
@@ -18,11 +18,7 @@ int lags_from(double lag, double max_distance) {
   return n > kMaxLags ? kMaxLags + 1 : static_cast<int>(n);  // no overflowing conversion
 }
 
-std::string number(double x) {
-  std::ostringstream s;
-  s << x;
-  return s.str();
-}
+std::string number(double x) { return format_for_people(x, 6); }
 
 }  // namespace
 

@@ -6,7 +6,7 @@
 #include <cmath>
 #include <limits>
 
-#include "core/format.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/variogram.hpp"
 
 namespace sillstone {
@@ -51,7 +51,7 @@ double ValueTransform::forward(double value) const {
 std::string ValueTransform::describe() const {
   switch (kind) {
     case Transform::log:
-      return log_offset == 0 ? "log(value)" : "log(value + " + detail::shortest(log_offset) + ")";
+      return log_offset == 0 ? "log(value)" : "log(value + " + format_for_file(log_offset) + ")";
     case Transform::normal_score:
       return "normal-score";
     case Transform::none:

@@ -9,11 +9,11 @@
 #include <fstream>
 #include <iomanip>
 #include <ostream>
-#include <sstream>
 
 #include <nlohmann/json.hpp>
 
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/outputs.hpp"
 #include "sillstone/variogram.hpp"
@@ -26,14 +26,7 @@ using json = nlohmann::ordered_json;  // keys in the documented order
 constexpr const char* kComponent = "variogram";
 const char* const kColumns[] = {"azimuth", "dip", "lag_from", "lag_to", "mean_distance", "pairs"};
 
-// The shortest text that reads back to the same double; empty when undefined.
-std::string cell(double x) {
-  if (!std::isfinite(x)) return "";
-  char buffer[32];
-  const auto result = std::to_chars(buffer, buffer + sizeof buffer, x);
-  return std::string(buffer, result.ptr);
-}
-
+std::string cell(double x) { return format_for_file(x); }
 std::string cell(const std::optional<double>& x) { return x ? cell(*x) : ""; }
 
 json number(double x) { return std::isfinite(x) ? json(x) : json(); }
@@ -421,12 +414,14 @@ void write_variogram_text(std::ostream& out, const EmpiricalVariogram& v) {
     out << ", " << name_of(o.estimator) << " estimator";
   out << "; transform " << v.summary.transform << "\n";
   out << "Samples    " << v.summary.samples << " (" << v.dimension << "D), mean "
-      << std::setprecision(6) << v.summary.mean << ", variance " << v.summary.variance << "\n";
+      << format_for_people(v.summary.mean, 6) << ", variance "
+      << format_for_people(v.summary.variance, 6) << "\n";
   out << "Lags       " << o.lags << " classes of " << cell(o.lag) << " to " << cell(o.max_distance)
       << "\n";
   if (v.summary.threads > 0)
-    out << "Pairs      " << v.summary.pairs << " counted in " << std::setprecision(3)
-        << v.summary.seconds << " s on " << v.summary.threads << " thread(s)\n";
+    out << "Pairs      " << v.summary.pairs << " counted in "
+        << format_for_people(v.summary.seconds, 3) << " s on " << v.summary.threads
+        << " thread(s)\n";
   if (!o.azimuths.empty()) {
     out << "Directions angle tolerance " << cell(o.angle_tolerance);
     if (std::isfinite(o.bandwidth)) out << ", bandwidth " << cell(o.bandwidth);
@@ -449,12 +444,7 @@ void write_variogram_text(std::ostream& out, const EmpiricalVariogram& v) {
           << std::right << std::setw(12) << "lag_from" << std::setw(12) << "lag_to" << std::setw(15)
           << "mean_distance" << std::setw(10) << "pairs" << std::setw(15) << key << "\n";
     }
-    auto fmt = [](double x) {
-      if (!std::isfinite(x)) return std::string("-");
-      std::ostringstream s;
-      s << std::setprecision(6) << x;
-      return s.str();
-    };
+    auto fmt = [](double x) { return format_for_people(x, 6); };
     out << std::setw(12) << fmt(r.lag_from) << std::setw(12) << fmt(r.lag_to) << std::setw(15)
         << fmt(r.mean_distance) << std::setw(10) << r.pairs << std::setw(15) << fmt(r.value)
         << "\n";
