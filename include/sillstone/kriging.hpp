@@ -285,9 +285,11 @@ OutputSize output_size(const GridSpec& grid, std::size_t values_per_node, bool t
 /// Refuses (InputError "grid", naming `path` and the estimate) a grid whose
 /// output would need more disk than is free in the output's folder or more
 /// memory than the machine has, or a raster wider or taller than GDAL allows.
-/// Call it before any long work.
+/// Call it before any long work. `kept_in_memory`: bytes of results held in
+/// memory as well (e.g. a KrigedGrid for the report), added to the memory
+/// needed.
 void check_output_size(const GridSpec& grid, std::size_t values_per_node, bool table,
-                       const std::string& path);
+                       const std::string& path, double kept_in_memory = 0);
 
 /// Name of the probability band/column for a threshold, e.g. "probability_above_450".
 std::string probability_name(double threshold);

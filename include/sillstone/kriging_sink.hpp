@@ -110,7 +110,8 @@ class TeeSink : public KrigingSink {
 /// Non-finite values are written as the target's nodata. 2D grids only.
 class RasterFileSink : public KrigingSink {
  public:
-  /// `threads`: GDAL's compression threads (the file is identical for any count).
+  /// `threads`: GDAL's compression threads, 0 for every core (the file is
+  /// identical for any count).
   RasterFileSink(const RasterTarget& target, int threads);
   ~RasterFileSink() override;
   void begin(const KrigedLayout& layout) override;

@@ -282,7 +282,7 @@ OutputSize output_size(const GridSpec& grid, std::size_t values_per_node, bool t
 }
 
 void check_output_size(const GridSpec& grid, std::size_t values_per_node, bool table,
-                       const std::string& path) {
+                       const std::string& path, double kept_in_memory) {
   namespace fs = std::filesystem;
   if (!table) {
     constexpr std::int64_t kMaxSide = std::numeric_limits<int>::max();  // GDAL's raster size type
@@ -292,7 +292,8 @@ void check_output_size(const GridSpec& grid, std::size_t values_per_node, bool t
                                    " x " + std::to_string(grid.ny) +
                                    "; use a larger --cell or a smaller --extent");
   }
-  const OutputSize need = output_size(grid, values_per_node, table);
+  OutputSize need = output_size(grid, values_per_node, table);
+  need.memory += kept_in_memory;
   const std::string nodes =
       std::to_string(grid.nodes()) + " nodes x " + std::to_string(values_per_node) + " values";
   const fs::path folder =
@@ -313,6 +314,7 @@ void check_output_size(const GridSpec& grid, std::size_t values_per_node, bool t
                        path + ": kriging this grid would need about " + bytes_text(need.memory) +
                            " of memory (" + nodes +
                            (table ? ", one layer at a time" : ", one block of rows at a time") +
+                           (kept_in_memory > 0 ? ", and every node kept for the report" : "") +
                            "), more than the " + bytes_text(memory) +
                            " this machine has; use a larger --cell or a smaller --extent");
   }

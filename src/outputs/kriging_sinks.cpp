@@ -2,6 +2,7 @@
 #include <gdal_priv.h>
 #include <ogr_spatialref.h>
 #include <ogrsf_frmts.h>
+#include <omp.h>
 
 #include <algorithm>
 #include <cctype>
@@ -76,7 +77,10 @@ struct RasterFileSink::Impl {
   std::unique_ptr<RasterWriter> writer;
   std::int64_t nx = 0, ny = 0;
   std::vector<double> scratch;
-  Impl(const RasterTarget& t, int n) : target(t), threads(n), out(t.path, t.overwrite) {}
+  Impl(const RasterTarget& t, int n)
+      : target(t),
+        threads(n > 0 ? n : std::max(1, omp_get_max_threads())),
+        out(t.path, t.overwrite) {}
 };
 
 RasterFileSink::RasterFileSink(const RasterTarget& target, int threads)

@@ -15,6 +15,7 @@
 #include "sillstone/crossval.hpp"
 #include "sillstone/error.hpp"
 #include "sillstone/kriging.hpp"
+#include "sillstone/kriging_sink.hpp"
 #include "sillstone/model.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/outputs.hpp"
@@ -154,7 +155,7 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   const GridSpec grid = make_grid(st.grid, samples.dimension, sample_extent(samples), samples.crs_wkt);
   const std::size_t extra = std::isnan(st.kriging.threshold) ? 0 : 1;
   check_output_size(grid, three_d ? 5 + extra : 2 + extra, three_d,
-                    out(three_d ? "blocks.csv" : "estimate.tif"));
+                    out(three_d ? "blocks.csv" : "estimate.tif"), KrigedGrid::bytes(grid, extra));
   if (!st.mask.empty()) {
     if (three_d)
       throw InputError("study", st.path + ": [grid] mask applies to 2D rasters; a 3D block "
@@ -239,26 +240,31 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
 
   stage("kriging");
   append(result.notes, grid.notes);
+  // The files are written and the result kept in memory for the report in one pass.
   KrigingSummary ks;
-  std::string map_path;
+  MemorySink kept;
+  GridKrigingOptions gko;
+  std::unique_ptr<KrigingSink> file;
   if (three_d) {
-    map_path = stage_output("blocks.csv");
     TableTarget table;
-    table.path = map_path;
-    table.blocks = st.blocks;
-    ks = krige_table(engine, grid, table);
+    table.path = stage_output("blocks.csv");
+    file = std::make_unique<TableFileSink>(table);
+    gko.table_order = true;
+    gko.blocks = st.blocks;
   } else {
-    map_path = stage_output("estimate.tif");
     RasterTarget target;
-    target.path = map_path;
+    target.path = stage_output("estimate.tif");
     target.format = st.format;
-    target.mask = st.mask;
     target.metadata = {{"SILLSTONE_VERSION", version()},
                        {"SILLSTONE_MODEL", to_spec(model.model)},
                        {"SILLSTONE_METHOD", std::string(name_of(ko.method))},
                        {"SILLSTONE_TRANSFORM", std::string(name_of(ko.transform))}};
-    ks = krige_raster(engine, grid, target);
+    file = std::make_unique<RasterFileSink>(target, ko.threads);
+    gko.mask = st.mask;
   }
+  TeeSink both({file.get(), &kept});
+  ks = krige_grid(engine, grid, gko, both);
+  const KrigedGrid kriged = kept.take();
   append(result.warnings, ks.warnings);
 
   // run.json: inputs with checksums, every setting, the version, the time.
@@ -289,7 +295,7 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   report.kriging = &ko;
   report.grid = &grid;
   report.kriging_summary = &ks;
-  report.map_path = map_path;
+  report.result = &kriged;
   report.inputs = inputs;
   report.warnings = result.warnings;
   report.notes = result.notes;
