@@ -656,10 +656,15 @@ void check_input(const ReportInput& in) {
                         : !in.kriging_summary ? "the kriging summary"
                         : !in.result          ? "the kriged grid"
                                               : nullptr;
-  if (missing) throw std::invalid_argument(std::string("report: no ") + missing + " to report");
+  if (missing) throw std::invalid_argument(std::string("report: the input lacks ") + missing);
   if (in.samples->size() == 0 || in.samples->value_names.empty() || in.summary->stats.empty() ||
       in.summary->declustered.empty())
     throw std::invalid_argument("report: the samples hold no values to report");
+  const DataSummary& sum = *in.summary;
+  const std::size_t columns = sum.names.size();
+  if (sum.stats.size() != columns || sum.declustered.size() != columns ||
+      sum.load.missing.size() < columns || sum.load.below_detection.size() < columns)
+    throw std::invalid_argument("report: the data summary does not cover every value column");
   const GridSpec& g = in.result->grid();
   if (g.nx != in.grid->nx || g.ny != in.grid->ny || g.nz != in.grid->nz ||
       g.dimension != in.samples->dimension)
