@@ -11,6 +11,7 @@
 #include <sstream>
 #include <stdexcept>
 
+#include "core/capped_list.hpp"
 #include "sillstone/error.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/outputs.hpp"
@@ -83,7 +84,9 @@ struct Html {
   void list(const std::vector<std::string>& items, const std::string& cls = "") {
     if (items.empty()) return;
     out << "<ul" << (cls.empty() ? "" : " class=\"" + cls + "\"") << ">";
-    for (const auto& i : items) out << "<li>" << esc(i) << "</li>";
+    // A long list is cut short; run.json keeps every entry.
+    for (const auto& i : detail::capped(items, 20, "(run.json lists them all)"))
+      out << "<li>" << esc(i) << "</li>";
     out << "</ul>\n";
   }
 };
