@@ -1,7 +1,7 @@
-"""Lists stay short: 600,000 rows at 20 locations give short messages and a
+"""Lists stay short: 400,000 rows at 20 locations give short messages and a
 report no larger than the same study with two rows per location.
 
-Generates (seeded) 600,000 CSV rows at 20 locations, 30,000 rows each, and
+Generates (seeded) 400,000 CSV rows at 20 locations, 20,000 rows each, and
 the same 20 locations with 2 rows each, then:
   - `inspect`: every stderr line is under 2,000 characters (before capping,
     2 million rows gave one 7.2 MB line);
@@ -54,7 +54,7 @@ def write_case(folder, rows_per_location):
 def main():
     exe = sys.argv[1]
     with tempfile.TemporaryDirectory() as tmp:
-        big = write_case(os.path.join(tmp, "big"), 30000)
+        big = write_case(os.path.join(tmp, "big"), 20000)
         small = write_case(os.path.join(tmp, "small"), 2)
         csv = os.path.join(big, "samples.csv")
         common = [csv, "--x", "x", "--y", "y", "--value", "v"]
@@ -62,7 +62,7 @@ def main():
         check(p.returncode == 0, f"inspect exits 0 (got {p.returncode})")
         longest = max((len(line) for line in p.stderr.splitlines()), default=0)
         check(longest < 2000, f"inspect's longest stderr line is {longest} characters (< 2000)")
-        check("and 29995 more rows" in p.stderr and "and 15 more locations" in p.stderr,
+        check("and 19995 more rows" in p.stderr and "and 15 more locations" in p.stderr,
               "the duplicate warning names a few rows and locations and counts the rest")
 
         p = subprocess.run([exe, "inspect", "--duplicates", "error"] + common,
@@ -87,7 +87,7 @@ def main():
         for f in ("report.html", "run.json", "summary.json"):
             b, s = sizes[("big", f)], sizes[("small", f)]
             check(s > 0 and abs(b - s) < 5000,
-                  f"{f}: {b} bytes for 600,000 rows against {s} for 40 (within 5,000)")
+                  f"{f}: {b} bytes for 400,000 rows against {s} for 40 (within 5,000)")
     return 1 if failures else 0
 
 
