@@ -244,7 +244,8 @@ struct RasterTarget {
 
 /// Krigs every node of a 2D grid and writes the raster, streaming blocks of
 /// rows so that grids larger than memory can be written. Results are
-/// bit-for-bit identical for any thread count.
+/// bit-for-bit identical for any thread count. (krige_grid with a
+/// RasterFileSink, kriging_sink.hpp; other sinks keep the grid in memory.)
 KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
                             const RasterTarget& target, const Progress& progress = {});
 

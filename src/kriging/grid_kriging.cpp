@@ -1,4 +1,4 @@
-// Kriging a whole grid: row blocks in parallel, streamed to a raster or a table.
+// Kriging a whole grid: row blocks in parallel, handed to a sink (kriging_sink.hpp).
 #include <gdal_alg.h>
 #include <gdal_priv.h>
 #include <ogr_spatialref.h>
@@ -9,9 +9,7 @@
 #include <algorithm>
 #include <chrono>
 #include <cmath>
-#include <cstdio>
 #include <filesystem>
-#include <fstream>
 #include <functional>
 #include <future>
 #include <limits>
@@ -22,8 +20,6 @@
 #include "sillstone/error.hpp"
 #include "sillstone/kriging.hpp"
 #include "sillstone/kriging_sink.hpp"
-#include "sillstone/outputs.hpp"
-#include "sillstone/raster.hpp"
 
 namespace sillstone {
 namespace {
