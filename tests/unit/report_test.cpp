@@ -16,6 +16,7 @@
 #include "sillstone/kriging_sink.hpp"
 #include "sillstone/model.hpp"
 #include "sillstone/report.hpp"
+#include "sillstone/study.hpp"
 #include "sillstone/summary.hpp"
 #include "sillstone/variogram.hpp"
 #include "test_support.hpp"
@@ -293,5 +294,41 @@ TEST_CASE("a report that fails leaves no report.html and no temporary file", "[r
     CHECK(html.size() > 1000);
     CHECK(html.substr(html.size() - 15) == "</body></html>\n");
     CHECK(files_in(dir.path("")) == 1);
+  }
+}
+
+TEST_CASE("a run that fails at the report stage renames nothing into its folder", "[report]") {
+  // The failure is injected through RunOptions::on_stage, the run's own
+  // progress hook: every output is still under its temporary name then.
+  test::ScratchDir dir;
+  std::string csv = "x,y,v\n";
+  const auto d = test::make_synthetic(40, 9, 100.0);
+  for (std::size_t i = 0; i < d.points.size(); ++i)
+    csv += std::to_string(d.points[i].x) + "," + std::to_string(d.points[i].y) + "," +
+           std::to_string(d.a[i]) + "\n";
+  dir.write("samples.csv", csv);
+  const std::string study_path =
+      dir.write("study.toml",
+                "[samples]\npath = \"samples.csv\"\nx = \"x\"\ny = \"y\"\nvalue = \"v\"\n\n"
+                "[model]\nspec = \"0.1 nugget + 1 spherical(range=40)\"\n\n[grid]\ncell = 10\n");
+  const Study study = read_study(study_path);
+  RunOptions ro;
+  ro.on_stage = [](const std::string& stage) {
+    if (stage == "report") throw std::runtime_error("injected failure");
+  };
+  SECTION("a new run folder is removed again") {
+    ro.output_dir = dir.path("run");
+    CHECK_THROWS_WITH(run_study(study, ro), "injected failure");
+    CHECK_FALSE(std::filesystem::exists(ro.output_dir));
+  }
+  SECTION("an earlier run's report stays as it was") {
+    ro.output_dir = dir.path("earlier");
+    std::filesystem::create_directory(ro.output_dir);
+    const std::string before = dir.write("earlier/report.html", "earlier report");
+    ro.overwrite = true;
+    CHECK_THROWS_WITH(run_study(study, ro), "injected failure");
+    CHECK(files_in(ro.output_dir) == 1);
+    std::ifstream f(before);
+    CHECK(std::string(std::istreambuf_iterator<char>(f), {}) == "earlier report");
   }
 }
