@@ -244,7 +244,8 @@ struct RasterTarget {
 
 /// Krigs every node of a 2D grid and writes the raster, streaming blocks of
 /// rows so that grids larger than memory can be written. Results are
-/// bit-for-bit identical for any thread count.
+/// bit-for-bit identical for any thread count. (krige_grid with a
+/// RasterFileSink, kriging_sink.hpp; other sinks keep the grid in memory.)
 KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
                             const RasterTarget& target, const Progress& progress = {});
 
@@ -285,9 +286,11 @@ OutputSize output_size(const GridSpec& grid, std::size_t values_per_node, bool t
 /// Refuses (InputError "grid", naming `path` and the estimate) a grid whose
 /// output would need more disk than is free in the output's folder or more
 /// memory than the machine has, or a raster wider or taller than GDAL allows.
-/// Call it before any long work.
+/// Call it before any long work. `kept_in_memory`: bytes of results held in
+/// memory as well (e.g. a KrigedGrid for the report), added to the memory
+/// needed.
 void check_output_size(const GridSpec& grid, std::size_t values_per_node, bool table,
-                       const std::string& path);
+                       const std::string& path, double kept_in_memory = 0);
 
 /// Name of the probability band/column for a threshold, e.g. "probability_above_450".
 std::string probability_name(double threshold);

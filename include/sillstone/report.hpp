@@ -14,6 +14,7 @@
 #include "sillstone/crossval.hpp"
 #include "sillstone/grid.hpp"
 #include "sillstone/kriging.hpp"
+#include "sillstone/kriging_sink.hpp"
 #include "sillstone/model.hpp"
 #include "sillstone/neighbourhood.hpp"
 #include "sillstone/samples.hpp"
@@ -48,7 +49,9 @@ struct ReportInput {
   const KrigingOptions* kriging = nullptr;
   const GridSpec* grid = nullptr;
   const KrigingSummary* kriging_summary = nullptr;
-  std::string map_path;                        ///< estimate.tif (2D) or blocks.csv (3D)
+  /// The kriged grid (2D) or block model (3D), kept in memory by the run:
+  /// the report never opens an output file.
+  const KrigedGrid* result = nullptr;
   std::vector<std::pair<std::string, std::string>> inputs;  ///< (path, sha256)
   std::vector<std::string> warnings, notes;
   std::string version;
@@ -57,14 +60,28 @@ struct ReportInput {
 /// The caution paragraph that README and every report carry (plain text).
 std::string caution_text();
 
-/// Areas (2D) where the exceedance probability is above each level, from a
-/// probability band: cells above the level times the cell area.
+/// The length unit of a CRS, as OSR names it.
+struct MapUnits {
+  /// "metre", "foot", "US survey foot", ... (OSR's linear unit name);
+  /// "degree" for a geographic CRS; "map units" without a CRS.
+  std::string name = "map units";
+  std::string symbol = "map units";  ///< for axes: "m", "ft", "US ft", "°", or the name
+  double metres = 0;                 ///< metres per unit; 0 when unknown (no CRS, geographic)
+  bool geographic = false;           ///< degrees: distances and areas are not lengths on the ground
+};
+/// Units of `crs_wkt` (any WKT or user input OSR reads); throws InputError
+/// for a CRS that OSR cannot read.
+MapUnits map_units(const std::string& crs_wkt);
+
+/// Areas (2D) where the exceedance probability is above each level: cells
+/// above the level times the cell area.
 struct ExceedanceArea {
   double level = 0;
   std::int64_t cells = 0;
   double area = 0;  ///< CRS units squared
 };
-std::vector<ExceedanceArea> exceedance_areas(const std::string& raster, int band,
+/// Throws std::invalid_argument when `grid` is not 2D or holds no probability.
+std::vector<ExceedanceArea> exceedance_areas(const KrigedGrid& grid,
                                              const std::vector<double>& levels);
 
 /// Tonnage and mean grade above cut-offs from block estimates.
@@ -78,7 +95,22 @@ std::vector<GradeTonnageRow> grade_tonnage(const std::vector<double>& block_grad
                                            double block_volume, double density,
                                            const std::vector<double>& cutoffs);
 
-/// The whole report as one HTML document.
+/// Where the kriged curve gives more or less tonnage than a reference curve
+/// (e.g. from the declustered samples) at the same cut-offs, as sentences
+/// built from the numbers: cut-offs are grouped into runs where the kriged
+/// tonnage is above, below or within 2% of the reference. `unit` follows
+/// each cut-off range (may be empty). Throws std::invalid_argument when the
+/// two curves have different cut-offs.
+std::string grade_tonnage_comparison(const std::vector<GradeTonnageRow>& kriged,
+                                     const std::vector<GradeTonnageRow>& reference,
+                                     const std::string& unit);
+
+/// The whole report as one HTML document. Throws (std::invalid_argument,
+/// InputError) with a message saying what is missing or inconsistent.
 std::string render_report(const ReportInput& input);
+
+/// Renders the report and writes it to `path` under a temporary name,
+/// renamed when complete: a failure leaves `path` as it was.
+void write_report(const std::string& path, const ReportInput& input, bool overwrite);
 
 }  // namespace sillstone

@@ -68,7 +68,8 @@ struct LoadSummary {
   std::vector<std::size_t> below_detection;  ///< per value column: "<DL" values seen
   std::size_t duplicate_locations = 0;  ///< locations holding more than one row
   std::size_t duplicate_rows_removed = 0;  ///< rows merged away by the duplicate policy
-  std::vector<std::string> duplicate_examples;  ///< up to 5 "line 12 = line 40" notes
+  std::vector<std::string> duplicate_examples;  ///< up to 5 "line 12 = line 40" notes, each
+                                                ///< naming up to 5 rows and counting the rest
   std::vector<std::string> warnings;    ///< each one sentence, without "warning:"
 };
 

@@ -1,4 +1,4 @@
-// Kriging a whole grid: row blocks in parallel, streamed to a raster or a table.
+// Kriging a whole grid: row blocks in parallel, handed to a sink (kriging_sink.hpp).
 #include <gdal_alg.h>
 #include <gdal_priv.h>
 #include <ogr_spatialref.h>
@@ -9,9 +9,7 @@
 #include <algorithm>
 #include <chrono>
 #include <cmath>
-#include <cstdio>
 #include <filesystem>
-#include <fstream>
 #include <functional>
 #include <future>
 #include <limits>
@@ -20,8 +18,7 @@
 #include "sillstone/error.hpp"
 #include "sillstone/format.hpp"
 #include "sillstone/kriging.hpp"
-#include "sillstone/outputs.hpp"
-#include "sillstone/raster.hpp"
+#include "sillstone/kriging_sink.hpp"
 
 namespace sillstone {
 namespace {
@@ -277,7 +274,7 @@ OutputSize output_size(const GridSpec& grid, std::size_t values_per_node, bool t
 }
 
 void check_output_size(const GridSpec& grid, std::size_t values_per_node, bool table,
-                       const std::string& path) {
+                       const std::string& path, double kept_in_memory) {
   namespace fs = std::filesystem;
   if (!table) {
     constexpr std::int64_t kMaxSide = std::numeric_limits<int>::max();  // GDAL's raster size type
@@ -287,7 +284,8 @@ void check_output_size(const GridSpec& grid, std::size_t values_per_node, bool t
                                    " x " + std::to_string(grid.ny) +
                                    "; use a larger --cell or a smaller --extent");
   }
-  const OutputSize need = output_size(grid, values_per_node, table);
+  OutputSize need = output_size(grid, values_per_node, table);
+  need.memory += kept_in_memory;
   const std::string nodes =
       std::to_string(grid.nodes()) + " nodes x " + std::to_string(values_per_node) + " values";
   const fs::path folder =
@@ -308,164 +306,121 @@ void check_output_size(const GridSpec& grid, std::size_t values_per_node, bool t
                        path + ": kriging this grid would need about " + bytes_text(need.memory) +
                            " of memory (" + nodes +
                            (table ? ", one layer at a time" : ", one block of rows at a time") +
+                           (kept_in_memory > 0 ? ", and every node kept for the report" : "") +
                            "), more than the " + bytes_text(memory) +
                            " this machine has; use a larger --cell or a smaller --extent");
   }
 }
 
-KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
-                            const RasterTarget& target, const Progress& progress) {
-  const auto start = std::chrono::steady_clock::now();
-  if (grid.dimension != 2)
-    throw InputError(kComponent, "rasters are 2D; write a 3D grid as a table");
-  const bool with_probability = !std::isnan(engine.options().threshold);
-  RasterLayout layout;
-  layout.grid = grid;
-  layout.bands = {"estimate", engine.options().transform.kind == Transform::log ? "variance (log scale)"
-                                                                           : "variance"};
-  if (with_probability) layout.bands.push_back(probability_name(engine.options().threshold));
-  layout.nodata = target.nodata;
-  layout.metadata = target.metadata;
-  layout.format = raster_driver_for(target.path, target.format);
-  layout.threads = thread_count(engine.options().threads);
+namespace {
 
-  std::unique_ptr<Mask> mask;
-  if (!target.mask.empty()) mask = std::make_unique<Mask>(target.mask, grid);
-  PendingOutput out(target.path, target.overwrite);
-  RasterWriter writer(out.temp_path(), layout);
+// One block of kriged nodes, converted for the sinks on the kriging threads.
+struct NodeBuffers {
+  std::vector<NodeEstimate> block;
+  std::vector<double> estimate, variance, probability, slope, efficiency;
+  std::vector<int> neighbours;
+  std::vector<unsigned char> non_finite;  // estimated, but a value is not finite
 
-  KrigingSummary summary;
-  summary.threads = thread_count(engine.options().threads);
-  std::vector<std::unique_ptr<KrigingEngine::Workspace>> workspaces;
-  for (int i = 0; i < summary.threads; ++i) workspaces.push_back(engine.make_workspace());
-
-  // 256 rows per block (the GeoTIFF tile height), fewer for very wide grids.
-  const std::int64_t block_rows = std::max<std::int64_t>(
-      1, std::min<std::int64_t>(256, (1 << 22) / std::max<std::int64_t>(grid.nx, 1)));
-  // Two sets of buffers: while the threads krige one block, the previous one
-  // is written on another thread (GDAL compresses the tiles on its own
-  // worker threads, layout.threads), so writing does not leave the
-  // kriging threads idle (with --threads 1 it is written in line). The
-  // kriging threads back-transform each chunk of nodes into the bands as
-  // they finish it. Memory stays bounded: two blocks, and GDAL's cache
-  // flushed at every tile row.
-  const std::size_t band_count = layout.bands.size();
-  struct Buffers {
-    std::vector<NodeEstimate> block;
-    std::vector<double> bands[3];
-    std::vector<unsigned char> non_finite;  // estimated, but a value is not finite
-  } buffers[2];
-  std::vector<unsigned char> inside;
-  auto convert = [&](Buffers& b, std::int64_t first, std::int64_t last) {
+  void resize(std::size_t n, bool with_probability) {
+    for (auto* v : {&estimate, &variance, &slope, &efficiency}) v->resize(n);
+    probability.resize(with_probability ? n : 0);
+    neighbours.resize(n);
+    non_finite.resize(n);
+  }
+  // Back-transforms nodes [first, last) (engine.finish) into the arrays.
+  void convert(const KrigingEngine& engine, std::int64_t first, std::int64_t last) {
+    const bool with_probability = !probability.empty();
     for (auto i = static_cast<std::size_t>(first); i < static_cast<std::size_t>(last); ++i) {
-      const NodeOutput v = engine.finish(b.block[i]);
-      b.non_finite[i] =
-          b.block[i].ok() && (!std::isfinite(v.estimate) || !std::isfinite(v.variance) ||
-                              (with_probability && !std::isfinite(v.probability)));
-      b.bands[0][i] = std::isfinite(v.estimate) ? v.estimate : target.nodata;
-      b.bands[1][i] = std::isfinite(v.variance) ? v.variance : target.nodata;
-      if (with_probability)
-        b.bands[2][i] = std::isfinite(v.probability) ? v.probability : target.nodata;
+      const NodeOutput v = engine.finish(block[i]);
+      non_finite[i] = block[i].ok() && (!std::isfinite(v.estimate) || !std::isfinite(v.variance) ||
+                                        (with_probability && !std::isfinite(v.probability)));
+      estimate[i] = v.estimate;
+      variance[i] = v.variance;
+      if (with_probability) probability[i] = v.probability;
+      slope[i] = v.slope;
+      efficiency[i] = v.efficiency;
+      neighbours[i] = block[i].neighbours;
     }
-  };
-  auto write_block = [&](Buffers& b, std::int64_t row0, std::int64_t rows) {
+  }
+  KrigedNodes nodes(std::int64_t layer, std::int64_t first_row, std::int64_t rows, int step,
+                    const std::vector<unsigned char>* listed) const {
+    KrigedNodes n;
+    n.layer = layer;
+    n.first_row = first_row;
+    n.rows = rows;
+    n.row_step = step;
+    n.estimate = estimate.data();
+    n.variance = variance.data();
+    n.probability = probability.empty() ? nullptr : probability.data();
+    n.slope = slope.data();
+    n.efficiency = efficiency.data();
+    n.neighbours = neighbours.data();
+    n.listed = listed && !listed->empty() ? listed->data() : nullptr;
+    return n;
+  }
+};
+
+std::vector<std::unique_ptr<KrigingEngine::Workspace>> workspaces_for(const KrigingEngine& engine,
+                                                                      int threads) {
+  std::vector<std::unique_ptr<KrigingEngine::Workspace>> w;
+  for (int i = 0; i < threads; ++i) w.push_back(engine.make_workspace());
+  return w;
+}
+
+// A 2D grid in raster order, streamed in blocks of rows: while the threads
+// krige one block, the previous one goes to the sink on another thread (with
+// --threads 1, in line). The kriging threads back-transform each chunk of
+// nodes as they finish it. Memory stays bounded: two blocks.
+void krige_rows(const KrigingEngine& engine, const GridSpec& grid, Mask* mask, KrigingSink& sink,
+                const Progress& progress, KrigingSummary& summary) {
+  auto workspaces = workspaces_for(engine, summary.threads);
+  const bool with_probability = !std::isnan(engine.options().threshold);
+  const std::int64_t block_rows = raster_block_rows(grid);
+  NodeBuffers buffers[2];
+  std::vector<unsigned char> inside;
+  auto hand_on = [&](NodeBuffers& b, std::int64_t row0, std::int64_t rows) {
     tally(b.block, summary);
-    for (unsigned char f : b.non_finite)
-      summary.non_finite += f;  // written as nodata, and warned of
-    for (std::size_t band = 0; band < band_count; ++band)
-      writer.write_rows(static_cast<int>(band), row0, rows, b.bands[band].data());
-    if ((row0 + rows) % 256 == 0 || row0 + rows == grid.ny) writer.flush();
+    for (unsigned char f : b.non_finite) summary.non_finite += f;  // nodata, and warned of
+    sink.write(b.nodes(0, row0, rows, 1, nullptr));
   };
   std::future<void> pending;
   int current = 0;
   for (std::int64_t row0 = 0; row0 < grid.ny; row0 += block_rows) {
     const std::int64_t rows = std::min(block_rows, grid.ny - row0);
     if (mask) mask->rows(grid, row0, rows, inside);
-    Buffers& b = buffers[current];
-    const auto nodes = static_cast<std::size_t>(grid.nx * rows);
-    b.non_finite.resize(nodes);
-    for (std::size_t band = 0; band < band_count; ++band) b.bands[band].resize(nodes);
+    NodeBuffers& b = buffers[current];
+    b.resize(static_cast<std::size_t>(grid.nx * rows), with_probability);
     krige_nodes(
         engine, grid.nx * rows,
         [&](std::int64_t i) {
           return Point{grid.x(i % grid.nx), grid.y(row0 + i / grid.nx), 0};
         },
         mask ? &inside : nullptr, workspaces, b.block, summary.threads,
-        [&](std::int64_t first, std::int64_t last) { convert(b, first, last); });
-    if (pending.valid()) pending.get();  // the previous block is written (or throws)
+        [&](std::int64_t first, std::int64_t last) { b.convert(engine, first, last); });
+    if (pending.valid()) pending.get();  // the previous block is handed on (or throws)
     if (progress && row0 > 0) progress(static_cast<double>(row0) / static_cast<double>(grid.ny));
-    // With one thread asked for, one thread it is: write in line.
     if (summary.threads > 1)
-      pending = std::async(std::launch::async, write_block, std::ref(b), row0, rows);
+      pending = std::async(std::launch::async, hand_on, std::ref(b), row0, rows);
     else
-      write_block(b, row0, rows);
+      hand_on(b, row0, rows);
     current = 1 - current;
   }
   if (pending.valid()) pending.get();
-  if (progress) progress(1.0);
-  writer.close();
-  out.commit();
-  summary.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
-  summary.warnings = describe(summary);
-  if (mask && !mask->note().empty()) summary.warnings.push_back(mask->note());
-  return summary;
 }
 
-KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
-                           const TableTarget& target, const Progress& progress) {
-  const auto start = std::chrono::steady_clock::now();
-  namespace fs = std::filesystem;
-  std::string ext = fs::path(target.path).extension().string();
-  std::transform(ext.begin(), ext.end(), ext.begin(),
-                 [](unsigned char c) { return static_cast<char>(std::tolower(c)); });
-  if (ext != ".csv" && ext != ".gpkg")
-    throw InputError(kComponent, target.path + ": a block model is written as .csv or .gpkg");
-  const bool with_probability = !std::isnan(engine.options().threshold);
-  std::vector<std::string> columns = {"x", "y", "z", "estimate", "variance", "neighbours"};
-  if (with_probability) columns.push_back(probability_name(engine.options().threshold));
-  columns.push_back("slope_of_regression");
-  columns.push_back("kriging_efficiency");
-
-  PendingOutput out(target.path, target.overwrite);
-  std::ofstream csv;
-  std::unique_ptr<GDALDataset> gpkg;
-  OGRLayer* layer = nullptr;
-  if (ext == ".csv") {
-    csv.open(out.temp_path(), std::ios::binary);
-    if (!csv) throw std::runtime_error("cannot write " + out.temp_path());
-    for (std::size_t c = 0; c < columns.size(); ++c) csv << (c ? "," : "") << columns[c];
-    csv << "\n";
-  } else {
-    GDALAllRegister();
-    GDALDriver* driver = GetGDALDriverManager()->GetDriverByName("GPKG");
-    gpkg.reset(driver->Create(out.temp_path().c_str(), 0, 0, 0, GDT_Unknown, nullptr));
-    if (!gpkg) throw std::runtime_error("cannot create " + out.temp_path());
-    OGRSpatialReference srs;
-    const bool has_srs =
-        !grid.crs_wkt.empty() && srs.importFromWkt(grid.crs_wkt.c_str()) == OGRERR_NONE;
-    layer = gpkg->CreateLayer("blocks", has_srs ? &srs : nullptr,
-                              grid.dimension == 3 ? wkbPoint25D : wkbPoint, nullptr);
-    for (const auto& c : columns) {
-      OGRFieldDefn f(c.c_str(), c == "neighbours" ? OFTInteger : OFTReal);
-      layer->CreateField(&f);
-    }
-    if (layer->StartTransaction() != OGRERR_NONE)
-      throw std::runtime_error("cannot write " + out.temp_path());
-  }
-
+// A grid in table order: layer by layer, rows south to north, only the
+// listed nodes when a block list is given.
+void krige_layers(const KrigingEngine& engine, const GridSpec& grid, const std::string& blocks,
+                  KrigingSink& sink, const Progress& progress, KrigingSummary& summary) {
   std::vector<unsigned char> listed;
-  if (!target.blocks.empty()) listed = listed_blocks(target.blocks, grid);
-
-  KrigingSummary summary;
-  summary.threads = thread_count(engine.options().threads);
-  std::vector<std::unique_ptr<KrigingEngine::Workspace>> workspaces;
-  for (int i = 0; i < summary.threads; ++i) workspaces.push_back(engine.make_workspace());
+  if (!blocks.empty()) listed = listed_blocks(blocks, grid);
+  auto workspaces = workspaces_for(engine, summary.threads);
+  const bool with_probability = !std::isnan(engine.options().threshold);
   const std::int64_t per_layer = grid.nx * grid.ny;
   std::vector<unsigned char> layer_listed;
-  std::vector<NodeEstimate> block;
+  NodeBuffers b;
   std::int64_t empty_slope = 0, empty_efficiency = 0;
   for (std::int64_t layer_index = 0; layer_index < grid.nz; ++layer_index) {
-    // Rows ascend in y (south to north) in the table.
     auto node = [&](std::int64_t i) {
       return Point{grid.x(i % grid.nx), grid.y(grid.ny - 1 - i / grid.nx),
                    grid.dimension == 3 ? grid.z(layer_index) : 0.0};
@@ -473,69 +428,73 @@ KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
     if (!listed.empty())
       layer_listed.assign(listed.begin() + layer_index * per_layer,
                           listed.begin() + (layer_index + 1) * per_layer);
+    b.resize(static_cast<std::size_t>(per_layer), with_probability);
     krige_nodes(engine, per_layer, node, listed.empty() ? nullptr : &layer_listed, workspaces,
-                block, summary.threads, [](std::int64_t, std::int64_t) {});
-    tally(block, summary);
-    for (std::int64_t i = 0; i < per_layer; ++i) {
-      if (!layer_listed.empty() && !layer_listed[static_cast<std::size_t>(i)])
-        continue;  // not listed
-      const NodeEstimate& e = block[static_cast<std::size_t>(i)];
-      const NodeOutput o = engine.finish(e);
-      if (e.ok()) {
-        if (!std::isfinite(o.estimate) || !std::isfinite(o.variance) ||
-            (with_probability && !std::isfinite(o.probability)))
-          ++summary.non_finite;
-        empty_slope += !std::isfinite(o.slope);
-        empty_efficiency += !std::isfinite(o.efficiency);
-      }
-      const Point p = node(i);
-      std::vector<double> v = {p.x,        p.y,        p.z,
-                               o.estimate, o.variance, static_cast<double>(e.neighbours)};
-      if (with_probability) v.push_back(o.probability);
-      v.push_back(o.slope);
-      v.push_back(o.efficiency);
-      if (csv.is_open()) {
-        for (std::size_t c = 0; c < v.size(); ++c) {
-          if (c) csv << ",";
-          if (c == 2 && grid.dimension == 2) continue;
-          if (c == 5)
-            csv << e.neighbours;
-          else
-            csv << format_for_file(v[c]);
-        }
-        csv << "\n";
-      } else {
-        OGRFeature f(layer->GetLayerDefn());
-        for (std::size_t c = 0; c < v.size(); ++c) {
-          if (c == 2 && grid.dimension == 2) continue;
-          if (c == 5)
-            f.SetField(static_cast<int>(c), e.neighbours);
-          else if (std::isfinite(v[c]))
-            f.SetField(static_cast<int>(c), v[c]);
-        }
-        OGRPoint pt(p.x, p.y);
-        if (grid.dimension == 3) pt.setZ(p.z);
-        f.SetGeometry(&pt);
-        if (layer->CreateFeature(&f) != OGRERR_NONE)
-          throw std::runtime_error("writing " + out.temp_path() + " failed");
-      }
+                b.block, summary.threads,
+                [&](std::int64_t first, std::int64_t last) { b.convert(engine, first, last); });
+    tally(b.block, summary);
+    for (std::size_t i = 0; i < b.block.size(); ++i) {
+      if ((!layer_listed.empty() && !layer_listed[i]) || !b.block[i].ok()) continue;
+      summary.non_finite += b.non_finite[i];
+      empty_slope += !std::isfinite(b.slope[i]);
+      empty_efficiency += !std::isfinite(b.efficiency[i]);
     }
+    sink.write(b.nodes(layer_index, grid.ny - 1, grid.ny, -1, &layer_listed));
     if (progress) progress(static_cast<double>(layer_index + 1) / static_cast<double>(grid.nz));
   }
-  if (csv.is_open()) {
-    csv.close();
-    if (!csv) throw std::runtime_error("writing " + out.temp_path() + " failed");
-  } else {
-    if (layer->CommitTransaction() != OGRERR_NONE)
-      throw std::runtime_error("writing " + out.temp_path() + " failed");
-    gpkg.reset();
-  }
-  out.commit();
   if (empty_slope) summary.empty_columns.push_back({"slope_of_regression", empty_slope});
   if (empty_efficiency) summary.empty_columns.push_back({"kriging_efficiency", empty_efficiency});
+}
+
+}  // namespace
+
+KrigingSummary krige_grid(const KrigingEngine& engine, const GridSpec& grid,
+                          const GridKrigingOptions& options, KrigingSink& sink,
+                          const Progress& progress) {
+  const auto start = std::chrono::steady_clock::now();
+  if (!options.table_order && grid.dimension != 2)
+    throw InputError(kComponent, "rasters are 2D; write a 3D grid as a table");
+  if (options.table_order && !options.mask.empty())
+    throw InputError(kComponent, "a mask applies to rasters; limit a table with a block list");
+  KrigedLayout layout;
+  layout.grid = grid;
+  layout.threshold = engine.options().threshold;
+  layout.log_variance = engine.options().transform.kind == Transform::log;
+  KrigingSummary summary;
+  summary.threads = thread_count(engine.options().threads);
+  std::unique_ptr<Mask> mask;  // read before anything is written
+  if (!options.mask.empty()) mask = std::make_unique<Mask>(options.mask, grid);
+  sink.begin(layout);
+  if (options.table_order) {
+    krige_layers(engine, grid, options.blocks, sink, progress, summary);
+  } else {
+    krige_rows(engine, grid, mask.get(), sink, progress, summary);
+    if (progress) progress(1.0);
+  }
+  sink.finish();
   summary.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   summary.warnings = describe(summary);
+  if (mask && !mask->note().empty()) summary.warnings.push_back(mask->note());
   return summary;
+}
+
+KrigingSummary krige_raster(const KrigingEngine& engine, const GridSpec& grid,
+                            const RasterTarget& target, const Progress& progress) {
+  if (grid.dimension != 2)
+    throw InputError(kComponent, "rasters are 2D; write a 3D grid as a table");
+  RasterFileSink sink(target, thread_count(engine.options().threads));
+  GridKrigingOptions o;
+  o.mask = target.mask;
+  return krige_grid(engine, grid, o, sink, progress);
+}
+
+KrigingSummary krige_table(const KrigingEngine& engine, const GridSpec& grid,
+                           const TableTarget& target, const Progress& progress) {
+  TableFileSink sink(target);
+  GridKrigingOptions o;
+  o.table_order = true;
+  o.blocks = target.blocks;
+  return krige_grid(engine, grid, o, sink, progress);
 }
 
 }  // namespace sillstone

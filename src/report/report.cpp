@@ -1,6 +1,6 @@
 // The HTML report: sections in the order a reviewer reads them, every plot
 // from plots.hpp, every number from the run's own objects.
-#include <gdal_priv.h>
+#include <ogr_spatialref.h>
 
 #include <algorithm>
 #include <cmath>
@@ -9,9 +9,13 @@
 #include <iomanip>
 #include <memory>
 #include <sstream>
+#include <stdexcept>
 
+#include "core/capped_list.hpp"
+#include "sillstone/error.hpp"
 #include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
+#include "sillstone/outputs.hpp"
 #include "sillstone/plots.hpp"
 #include "sillstone/report.hpp"
 
@@ -35,10 +39,20 @@ std::string esc(const std::string& s) {
 // Up to 4 significant digits for tables (full precision stays in the files).
 std::string num(double v, int digits = 4) { return format_for_people(v, digits); }
 
-std::string area_text(double square_units) {
+// An area in the CRS's units, with square metres and hectares when the
+// unit's length in metres is known.
+std::string area_text(double square_units, const MapUnits& u) {
+  if (u.geographic) return "not computed (the CRS is geographic: cells are not of equal area)";
   std::ostringstream s;
-  s << std::fixed << std::setprecision(0) << square_units << " m² (" << std::setprecision(2)
-    << square_units / 1e4 << " ha)";
+  s << std::fixed << std::setprecision(0) << square_units;
+  if (u.metres == 1) {
+    s << " m² (" << std::setprecision(2) << square_units / 1e4 << " ha)";
+  } else if (u.metres > 0) {
+    const double m2 = square_units * u.metres * u.metres;
+    s << " " << u.symbol << "² (" << m2 << " m², " << std::setprecision(2) << m2 / 1e4 << " ha)";
+  } else {
+    s << " square " << u.name;
+  }
   return s.str();
 }
 
@@ -66,7 +80,9 @@ struct Html {
   void list(const std::vector<std::string>& items, const std::string& cls = "") {
     if (items.empty()) return;
     out << "<ul" << (cls.empty() ? "" : " class=\"" + cls + "\"") << ">";
-    for (const auto& i : items) out << "<li>" << esc(i) << "</li>";
+    // A long list is cut short; run.json keeps every entry.
+    for (const auto& i : detail::capped(items, 20, "(run.json lists them all)"))
+      out << "<li>" << esc(i) << "</li>";
     out << "</ul>\n";
   }
 };
@@ -101,31 +117,19 @@ nav a { margin-right: 12px; color: var(--accent); }
                figure, table { break-inside: avoid; } nav { display: none; } }
 )";
 
-// Band `band` (1-based) of a raster, read at most `max_px` columns wide
-// (GDAL resamples by nearest neighbour when reading into a smaller buffer).
-RasterGrid read_band(const std::string& path, int band, std::int64_t max_px) {
-  GDALAllRegister();
-  std::unique_ptr<GDALDataset> ds(GDALDataset::Open(
-      path.c_str(), GDAL_OF_RASTER | GDAL_OF_READONLY, nullptr, nullptr, nullptr));
+// One array of the kriged grid (its first layer) as a map, reduced to at
+// most `max_px` columns and rows.
+RasterGrid band_grid(const KrigedGrid& k, const std::vector<double>& values, std::int64_t max_px) {
+  const GridSpec& grid = k.grid();
+  if (values.size() != static_cast<std::size_t>(grid.nodes()))
+    throw std::invalid_argument("report: the kriged grid holds " + std::to_string(values.size()) +
+                                " values for " + std::to_string(grid.nodes()) + " nodes");
   RasterGrid g;
-  if (!ds || band > ds->GetRasterCount()) return g;
-  const int nx = ds->GetRasterXSize(), ny = ds->GetRasterYSize();
-  const double f = std::max(1.0, static_cast<double>(nx) / static_cast<double>(max_px));
-  g.nx = std::max<std::int64_t>(1, static_cast<std::int64_t>(nx / f));
-  g.ny = std::max<std::int64_t>(1, static_cast<std::int64_t>(ny / f));
-  double gt[6];
-  ds->GetGeoTransform(gt);
-  g.geotransform = {gt[0], gt[1] * nx / static_cast<double>(g.nx), 0, gt[3], 0,
-                    gt[5] * ny / static_cast<double>(g.ny)};
-  g.values.resize(static_cast<std::size_t>(g.nx * g.ny));
-  GDALRasterBand* b = ds->GetRasterBand(band);
-  int has = 0;
-  const double nodata = b->GetNoDataValue(&has);
-  g.nodata = has ? nodata : std::nan("");
-  if (b->RasterIO(GF_Read, 0, 0, nx, ny, g.values.data(), static_cast<int>(g.nx),
-                  static_cast<int>(g.ny), GDT_Float64, 0, 0, nullptr) != CE_None)
-    return RasterGrid{};
-  return g;
+  g.nx = grid.nx;
+  g.ny = grid.ny;
+  g.geotransform = grid.geotransform();
+  g.values.assign(values.begin(), values.begin() + grid.nx * grid.ny);
+  return decimate(g, max_px);
 }
 
 std::string value_label(const ReportInput& in) {
@@ -134,7 +138,35 @@ std::string value_label(const ReportInput& in) {
   return units.empty() ? name : name + " (" + units + ")";
 }
 
-std::string map_units(const SampleSet& s) { return s.crs_wkt.empty() ? "units" : "m"; }
+}  // namespace
+
+MapUnits map_units(const std::string& crs_wkt) {
+  MapUnits u;
+  if (crs_wkt.empty()) return u;
+  OGRSpatialReference srs;
+  if (srs.SetFromUserInput(crs_wkt.c_str()) != OGRERR_NONE)
+    throw InputError("report", "the CRS cannot be read: " + crs_wkt.substr(0, 60));
+  if (srs.IsGeographic()) {
+    const char* name = nullptr;
+    srs.GetAngularUnits(&name);
+    u.name = name && *name ? name : "degree";
+    u.symbol = u.name == "degree" ? "°" : u.name;
+    u.geographic = true;
+    return u;
+  }
+  const char* name = nullptr;
+  u.metres = srs.GetLinearUnits(&name);
+  u.name = name && *name ? name : "unknown unit";
+  u.symbol = u.name == "metre"            ? "m"
+             : u.name == "foot"           ? "ft"
+             : u.name == "US survey foot" ? "US ft"
+                                          : u.name;
+  return u;
+}
+
+namespace {
+
+MapUnits units_of(const ReportInput& in) { return map_units(in.samples->crs_wkt); }
 
 }  // namespace
 
@@ -146,32 +178,23 @@ std::string caution_text() {
          "data, the variogram model and the cross-validation before relying on any map.";
 }
 
-std::vector<ExceedanceArea> exceedance_areas(const std::string& raster, int band,
+std::vector<ExceedanceArea> exceedance_areas(const KrigedGrid& k,
                                              const std::vector<double>& levels) {
+  const GridSpec& grid = k.grid();
+  if (grid.dimension != 2)
+    throw std::invalid_argument("exceedance areas: the kriged grid is 3D; areas need a 2D grid");
+  if (k.probability.size() != static_cast<std::size_t>(grid.nodes()))
+    throw std::invalid_argument(
+        "exceedance areas: the kriged grid holds no exceedance probability "
+        "(kriging had no threshold)");
   std::vector<ExceedanceArea> out;
   for (double l : levels) out.push_back({l, 0, 0});
-  GDALAllRegister();
-  std::unique_ptr<GDALDataset> ds(GDALDataset::Open(
-      raster.c_str(), GDAL_OF_RASTER | GDAL_OF_READONLY, nullptr, nullptr, nullptr));
-  if (!ds || band > ds->GetRasterCount()) return out;
-  double gt[6];
-  ds->GetGeoTransform(gt);
-  const double cell_area = std::abs(gt[1] * gt[5]);
-  GDALRasterBand* b = ds->GetRasterBand(band);
-  int has = 0;
-  const double nodata = b->GetNoDataValue(&has);
-  const int nx = ds->GetRasterXSize(), ny = ds->GetRasterYSize();
-  std::vector<double> row(static_cast<std::size_t>(nx));
-  for (int y = 0; y < ny; ++y) {
-    if (b->RasterIO(GF_Read, 0, y, nx, 1, row.data(), nx, 1, GDT_Float64, 0, 0, nullptr) != CE_None)
-      break;
-    for (double val : row) {
-      if ((has && val == nodata) || !std::isfinite(val)) continue;
-      for (auto& e : out)
-        if (val > e.level) ++e.cells;
-    }
+  for (double val : k.probability) {
+    if (!std::isfinite(val)) continue;
+    for (auto& e : out)
+      if (val > e.level) ++e.cells;
   }
-  for (auto& e : out) e.area = static_cast<double>(e.cells) * cell_area;
+  for (auto& e : out) e.area = static_cast<double>(e.cells) * grid.dx * grid.dy;
   return out;
 }
 
@@ -194,6 +217,42 @@ std::vector<GradeTonnageRow> grade_tonnage(const std::vector<double>& grades, do
   return out;
 }
 
+std::string grade_tonnage_comparison(const std::vector<GradeTonnageRow>& kriged,
+                                     const std::vector<GradeTonnageRow>& reference,
+                                     const std::string& unit) {
+  if (kriged.size() != reference.size())
+    throw std::invalid_argument("grade-tonnage comparison: the curves have different cut-offs");
+  // -1: lower than the reference, 0: within 2%, +1: higher.
+  std::vector<int> side;
+  for (std::size_t i = 0; i < kriged.size(); ++i) {
+    if (kriged[i].cutoff != reference[i].cutoff)
+      throw std::invalid_argument("grade-tonnage comparison: the curves have different cut-offs");
+    const double a = kriged[i].tonnage, b = reference[i].tonnage;
+    side.push_back(std::abs(a - b) <= 0.02 * std::max(std::abs(a), std::abs(b)) ? 0
+                   : a > b                                                      ? 1
+                                                                                : -1);
+  }
+  if (side.empty()) return "";
+  const std::string u = unit.empty() ? "" : " " + unit;
+  std::vector<std::string> parts;
+  for (std::size_t i = 0; i < side.size();) {
+    std::size_t j = i;
+    while (j + 1 < side.size() && side[j + 1] == side[i]) ++j;
+    const std::string where =
+        i == j ? "at cut-off " + num(kriged[i].cutoff) + u
+               : "at cut-offs " + num(kriged[i].cutoff) + " to " + num(kriged[j].cutoff) + u;
+    parts.push_back((side[i] > 0   ? "more tonnage "
+                     : side[i] < 0 ? "less tonnage "
+                                   : "about the same tonnage (within 2%) ") +
+                    where);
+    i = j + 1;
+  }
+  std::string text = "Compared with the samples, the kriged blocks give ";
+  for (std::size_t i = 0; i < parts.size(); ++i)
+    text += (i == 0 ? "" : i + 1 == parts.size() ? " and " : ", ") + parts[i];
+  return text + ".";
+}
+
 namespace {
 
 void data_section(Html& h, const ReportInput& in) {
@@ -202,9 +261,11 @@ void data_section(Html& h, const ReportInput& in) {
   h.h2("data", "Data");
   h.p("Source <code>" + esc(s.source) + "</code>, CRS " +
       esc(s.crs_name.empty() ? "none (local coordinates)" : s.crs_name + " " + s.crs_authority) +
+      "; distances and areas in <b>" + esc(units_of(in).name) + "</b>" +
+      (s.crs_wkt.empty() ? " (no CRS: the samples' own coordinates)" : " (from the CRS)") +
       ". Non-detects replaced by --below-detection " +
-      esc(std::string(name_of(s.below_detection))) + "; samples at one location: " +
-      esc(std::string(name_of(s.duplicates))) + ".");
+      esc(std::string(name_of(s.below_detection))) +
+      "; samples at one location: " + esc(std::string(name_of(s.duplicates))) + ".");
   std::vector<std::vector<std::string>> rows;
   const auto& lw = sum.load;
   rows.push_back({"rows read / kept", std::to_string(lw.rows_read) + " / " + std::to_string(lw.rows_kept)});
@@ -241,7 +302,10 @@ void data_section(Html& h, const ReportInput& in) {
   LocationMapPlot lm;
   lm.title = "Sample locations coloured by " + s.value_names.front();
   lm.value_label = value_label(in);
-  lm.map_unit = map_units(s);
+  const MapUnits mu = units_of(in);
+  lm.map_unit = mu.symbol;
+  lm.x_label = "easting (" + mu.symbol + ")";
+  lm.y_label = "northing (" + mu.symbol + ")";
   for (std::size_t i = 0; i < s.size(); ++i) {
     lm.x.push_back(s.points[i].x);
     lm.y.push_back(s.points[i].y);
@@ -257,7 +321,7 @@ void data_section(Html& h, const ReportInput& in) {
 
 void variogram_section(Html& h, const ReportInput& in) {
   const EmpiricalVariogram& v = *in.variogram;
-  const std::string units = map_units(*in.samples);
+  const std::string units = units_of(in).symbol;
   h.h2("variogram", "Variogram");
   VariogramPlot vp;
   vp.title = "Empirical variogram and fitted model";
@@ -341,13 +405,42 @@ void variogram_section(Html& h, const ReportInput& in) {
 void model_section(Html& h, const ReportInput& in) {
   h.h2("model", "Covariance model");
   const CovarianceModel& m = in.model->model;
+  // Every parameter the model has: shape parameters when a family uses one,
+  // the 3D anisotropy angles and ratio when any structure departs from 2D.
+  bool shape = false, three_d = false;
+  for (const auto& sct : m.structures()) {
+    shape = shape || sct.family == Family::matern || sct.family == Family::power;
+    const auto& a = sct.anisotropy;
+    three_d = three_d || a.dip != 0 || a.plunge != 0 || a.ratio2 != 1;
+  }
+  three_d = three_d || in.samples->dimension == 3;
+  std::vector<std::string> head = {"structure", "partial sill", "practical range"};
+  if (shape) head.push_back("shape (nu or exponent)");
+  for (const char* c : {"azimuth", "ratio"}) head.push_back(c);
+  if (three_d)
+    for (const char* c : {"dip", "plunge", "ratio2"}) head.push_back(c);
   std::vector<std::vector<std::string>> rows;
   for (const auto& sct : m.structures()) {
     const auto& a = sct.anisotropy;
-    rows.push_back({std::string(name_of(sct.family)), num(sct.sill), sct.range > 0 ? num(sct.range) : "–",
-                    a.is_isotropic() ? "–" : num(a.azimuth) + "°, ratio " + num(a.ratio)});
+    const bool oriented = sct.family != Family::nugget;  // nugget has no direction
+    auto angle = [oriented](double v) { return oriented ? num(v) + "°" : std::string("–"); };
+    auto ratio = [oriented](double v) { return oriented ? num(v) : std::string("–"); };
+    std::vector<std::string> r = {std::string(name_of(sct.family)), num(sct.sill),
+                                  sct.range > 0 ? num(sct.range) : "–"};
+    if (shape)
+      r.push_back(sct.family == Family::matern  ? "nu " + num(sct.nu)
+                  : sct.family == Family::power ? "exponent " + num(sct.exponent)
+                                                : "–");
+    r.push_back(angle(a.azimuth));
+    r.push_back(ratio(a.ratio));
+    if (three_d) {
+      r.push_back(angle(a.dip));
+      r.push_back(angle(a.plunge));
+      r.push_back(ratio(a.ratio2));
+    }
+    rows.push_back(r);
   }
-  h.table({"structure", "partial sill", "practical range", "anisotropy"}, rows);
+  h.table(head, rows);
   if (m.has_sill()) {
     const double ratio = m.nugget() / m.total_sill();
     const char* cls = ratio < 0.25 ? "strong" : ratio <= 0.75 ? "moderate" : "weak";
@@ -418,18 +511,21 @@ void crossval_section(Html& h, const ReportInput& in) {
 void map_section(Html& h, const ReportInput& in, const std::vector<ExceedanceArea>& areas) {
   const SampleSet& s = *in.samples;
   const KrigingOptions& ko = *in.kriging;
+  const KrigedGrid& k = *in.result;
+  const MapUnits mu = units_of(in);
   const bool logged = ko.transform.kind == Transform::log;
   const std::string& units_value = in.options.units;
   h.h2("maps", "Maps");
-  const RasterGrid est = read_band(in.map_path, 1, 800);
-  RasterGrid sd = read_band(in.map_path, 2, 800);
-  for (double& x : sd.values)
-    if (x != sd.nodata && std::isfinite(x)) x = std::sqrt(std::max(0.0, x));
+  std::vector<double> sd(k.variance.size());
+  std::transform(k.variance.begin(), k.variance.end(), sd.begin(),
+                 [](double v) { return std::isfinite(v) ? std::sqrt(std::max(0.0, v)) : v; });
   RasterMapPlot e;
   e.title = "Estimate of " + s.value_names.front();
   e.value_label = value_label(in);
-  e.grid = est;
-  e.map_unit = map_units(s);
+  e.grid = band_grid(k, k.estimate, 800);
+  e.map_unit = mu.symbol;
+  e.x_label = "easting (" + mu.symbol + ")";
+  e.y_label = "northing (" + mu.symbol + ")";
   for (const auto& p : s.points) {
     e.sample_x.push_back(p.x);
     e.sample_y.push_back(p.y);
@@ -438,7 +534,7 @@ void map_section(Html& h, const ReportInput& in, const std::vector<ExceedanceAre
   u.title = std::string("Kriging standard deviation") + (logged ? " (log scale)" : "");
   u.value_label = logged ? "standard deviation of ln " + s.value_names.front()
                          : "standard deviation" + (units_value.empty() ? std::string() : " (" + units_value + ")");
-  u.grid = sd;
+  u.grid = band_grid(k, sd, 800);
   h.figure(raster_map_svg(e), "Kriged estimate" +
                                   std::string(logged ? ", back-transformed from the log scale" : "") +
                                   "; dots: samples.");
@@ -449,43 +545,72 @@ void map_section(Html& h, const ReportInput& in, const std::vector<ExceedanceAre
     pr.title = "Probability that " + s.value_names.front() + " exceeds " + num(ko.threshold);
     pr.value_label = "probability";
     pr.ramp = ColourRamp::probability;
-    pr.grid = read_band(in.map_path, 3, 800);
+    pr.grid = band_grid(k, k.probability, 800);
     h.figure(raster_map_svg(pr),
              "Model-based probability under a Gaussian error on the kriging scale (docs/kriging.md "
              "says when it misleads). Classes break at 0.1, 0.5 and 0.9.");
     std::vector<std::vector<std::string>> rows;
     for (const auto& a : areas)
-      rows.push_back({"P > " + num(a.level), std::to_string(a.cells), area_text(a.area)});
+      rows.push_back({"P > " + num(a.level), std::to_string(a.cells), area_text(a.area, mu)});
     h.table({"probability of exceeding " + num(ko.threshold), "cells", "area"}, rows);
   }
+}
+
+// The grade-tonnage curve of the declustered samples for the same blocks:
+// the estimated blocks' tonnage times the declustered share of samples at or
+// above each cut-off, and the samples' declustered mean grade above it.
+std::vector<GradeTonnageRow> sample_grade_tonnage(const ReportInput& in, double tonnage,
+                                                  std::int64_t blocks,
+                                                  const std::vector<double>& cutoffs) {
+  std::vector<double> values;
+  for (double x : in.samples->values.front())
+    if (!std::isnan(x)) values.push_back(x);
+  const auto& d = in.summary->declustered.front();
+  const bool weighted = d.weights.size() == values.size();
+  double total = 0;
+  for (std::size_t i = 0; i < values.size(); ++i) total += weighted ? d.weights[i] : 1.0;
+  std::vector<GradeTonnageRow> out;
+  for (double c : cutoffs) {
+    GradeTonnageRow r;
+    r.cutoff = c;
+    double w = 0, wv = 0;
+    for (std::size_t i = 0; i < values.size(); ++i)
+      if (values[i] >= c) {
+        const double wi = weighted ? d.weights[i] : 1.0;
+        w += wi;
+        wv += wi * values[i];
+      }
+    const double share = total > 0 ? w / total : 0;
+    r.tonnage = tonnage * share;
+    r.blocks = std::llround(share * static_cast<double>(blocks));
+    r.mean_grade = w > 0 ? wv / w : std::nan("");
+    out.push_back(r);
+  }
+  return out;
 }
 
 void block_section(Html& h, const ReportInput& in) {
   const GridSpec& grid = *in.grid;
   const ReportOptions& ro = in.options;
-  const std::string units = map_units(*in.samples);
+  const KrigedGrid& k = *in.result;
+  const std::string units = units_of(in).symbol;
   h.h2("maps", "Block model");
-  std::vector<double> grades;  // the estimate column of blocks.csv
-  std::ifstream f(in.map_path);
-  std::string line;
-  std::getline(f, line);
-  while (std::getline(f, line)) {
-    std::stringstream ls(line);
-    std::string cell;
-    for (int c = 0; c < 4 && std::getline(ls, cell, ','); ++c)
-      if (c == 3) grades.push_back(cell.empty() ? std::nan("") : std::stod(cell));
-  }
+  std::vector<double> grades;  // the estimates of the blocks in the table
+  for (std::size_t i = 0; i < k.estimate.size(); ++i)
+    if (k.listed[i]) grades.push_back(k.estimate[i]);
   const double volume = grid.dx * grid.dy * grid.dz;
   const double density = ro.density > 0 ? ro.density : 1.0;
   std::vector<double> cutoffs = ro.cutoffs;
+  std::vector<double> g;
+  for (double x : grades)
+    if (std::isfinite(x)) g.push_back(x);
   if (cutoffs.empty()) {
-    std::vector<double> g;
-    for (double x : grades)
-      if (std::isfinite(x)) g.push_back(x);
     std::sort(g.begin(), g.end());
     cutoffs = nice_ticks(0, g.empty() ? 1.0 : quantile_sorted(g, 0.95), 10).values;
   }
   const auto gt = grade_tonnage(grades, volume, density, cutoffs);
+  const auto ref = sample_grade_tonnage(in, static_cast<double>(g.size()) * volume * density,
+                                        static_cast<std::int64_t>(g.size()), cutoffs);
   h.p("Blocks of " + num(grid.dx) + " × " + num(grid.dy) + " × " + num(grid.dz) + " " + units +
       " (" + num(volume) + " " + units + "³), " + std::to_string(grades.size()) + " in the table" +
       (in.block_list.empty() ? std::string() : " (the block list " + esc(in.block_list) + ")") +
@@ -499,22 +624,74 @@ void block_section(Html& h, const ReportInput& in) {
   dp.x_label = "cut-off " + value_label(in);
   dp.left_label = "tonnage above cut-off (t)";
   dp.right_label = "mean grade above cut-off";
-  for (const auto& r : gt) {
-    std::ostringstream tonnes;
-    tonnes << std::fixed << std::setprecision(0) << r.tonnage;
-    rows.push_back({num(r.cutoff), std::to_string(r.blocks), tonnes.str(), num(r.mean_grade)});
+  auto tonnes = [](double t) {
+    std::ostringstream s;
+    s << std::fixed << std::setprecision(0) << t;
+    return s.str();
+  };
+  for (std::size_t i = 0; i < gt.size(); ++i) {
+    const auto& r = gt[i];
+    rows.push_back({num(r.cutoff), std::to_string(r.blocks), tonnes(r.tonnage), num(r.mean_grade),
+                    tonnes(ref[i].tonnage), num(ref[i].mean_grade)});
     dp.x.push_back(r.cutoff);
     dp.left.push_back(r.tonnage);
     dp.right.push_back(r.mean_grade);
   }
-  h.table({"cut-off", "blocks", "tonnage (t)", "mean grade"}, rows);
-  h.figure(dual_axis_svg(dp), "Kriged block grades are smoothed: above high cut-offs they tend to "
-                              "understate grade and overstate tonnage.");
+  h.table({"cut-off", "blocks", "tonnage (t)", "mean grade", "tonnage from samples (t)",
+           "mean grade of samples"},
+          rows);
+  h.figure(dual_axis_svg(dp),
+           "Kriged block grades are smoothed: they vary less than the true block grades. " +
+               grade_tonnage_comparison(gt, ref, in.options.units) +
+               " The samples' columns spread the declustered sample grades over the estimated "
+               "tonnage; samples are points and vary more than blocks, so they exaggerate the "
+               "spread of the true block grades.");
+}
+
+}  // namespace
+
+namespace {
+
+// Refuses a report whose inputs are missing or do not belong together.
+void check_input(const ReportInput& in) {
+  const char* missing = !in.samples           ? "the samples"
+                        : !in.summary         ? "the data summary"
+                        : !in.variogram       ? "the variogram"
+                        : !in.model           ? "the model"
+                        : !in.kriging         ? "the kriging options"
+                        : !in.grid            ? "the grid"
+                        : !in.kriging_summary ? "the kriging summary"
+                        : !in.result          ? "the kriged grid"
+                                              : nullptr;
+  if (missing) throw std::invalid_argument(std::string("report: the input lacks ") + missing);
+  if (in.samples->size() == 0 || in.samples->value_names.empty() || in.summary->stats.empty() ||
+      in.summary->declustered.empty())
+    throw std::invalid_argument("report: the samples hold no values to report");
+  const DataSummary& sum = *in.summary;
+  const std::size_t columns = sum.names.size();
+  if (sum.stats.size() != columns || sum.declustered.size() != columns ||
+      sum.load.missing.size() < columns || sum.load.below_detection.size() < columns)
+    throw std::invalid_argument("report: the data summary does not cover every value column");
+  const GridSpec& g = in.result->grid();
+  if (g.nx != in.grid->nx || g.ny != in.grid->ny || g.nz != in.grid->nz ||
+      g.dimension != in.samples->dimension)
+    throw std::invalid_argument("report: the kriged grid (" + std::to_string(g.nx) + " x " +
+                                std::to_string(g.ny) + " x " + std::to_string(g.nz) +
+                                ") is not the study's grid");
+  const auto n = static_cast<std::size_t>(g.nodes());
+  if (in.result->estimate.size() != n || in.result->variance.size() != n ||
+      in.result->listed.size() != n)
+    throw std::invalid_argument("report: the kriged grid is incomplete");
+  if (std::isfinite(in.kriging->threshold) && in.result->probability.size() != n)
+    throw std::invalid_argument(
+        "report: kriging had a threshold but the kriged grid holds no "
+        "exceedance probability");
 }
 
 }  // namespace
 
 std::string render_report(const ReportInput& in) {
+  check_input(in);
   const SampleSet& s = *in.samples;
   const DataSummary& sum = *in.summary;
   const KrigingOptions& ko = *in.kriging;
@@ -540,7 +717,7 @@ std::string render_report(const ReportInput& in) {
 
   // Key results first: what the reader came for.
   std::vector<ExceedanceArea> areas;
-  if (!three_d && std::isfinite(ko.threshold)) areas = exceedance_areas(in.map_path, 3, {0.5, 0.9});
+  if (!three_d && std::isfinite(ko.threshold)) areas = exceedance_areas(*in.result, {0.5, 0.9});
   h.out << "<div class=\"keys\">";
   auto key = [&h](const std::string& value, const std::string& label) {
     h.out << "<div class=\"key\"><b>" << esc(value) << "</b><span>" << esc(label) << "</span></div>";
@@ -554,8 +731,8 @@ std::string render_report(const ReportInput& in) {
             num(in.crossval->summary.mean_squared_standardised_error, 3),
         "cross-validation RMSE · mean squared standardised error (ideal 1)");
   for (const auto& a : areas)
-    key(area_text(a.area), "area where P(" + s.value_names.front() + " > " + num(ko.threshold) +
-                               ") exceeds " + num(a.level));
+    key(area_text(a.area, units_of(in)), "area where P(" + s.value_names.front() + " > " +
+                                             num(ko.threshold) + ") exceeds " + num(a.level));
   h.out << "</div>\n";
 
   data_section(h, in);
@@ -573,7 +750,7 @@ std::string render_report(const ReportInput& in) {
   h.h2("settings", "Settings and inputs");
   const EmpiricalVariogram& v = *in.variogram;
   const NeighbourhoodOptions& nb = in.neighbourhood;
-  const std::string units = map_units(s);
+  const std::string units = units_of(in).symbol;
   h.table({"setting", "value"},
           {{"samples", s.source},
            {"value", s.value_names.front()},
@@ -609,6 +786,17 @@ std::string render_report(const ReportInput& in) {
   h.out << "<div class=\"caution\"><b>Caution.</b> " << esc(caution_text()) << "</div>\n";
   h.out << "</body></html>\n";
   return h.out.str();
+}
+
+void write_report(const std::string& path, const ReportInput& input, bool overwrite) {
+  const std::string html = render_report(input);  // before anything is written
+  write_atomically(path, overwrite, [&html](const std::string& temporary) {
+    std::ofstream f(temporary, std::ios::binary | std::ios::trunc);
+    if (!f) throw std::runtime_error("cannot write " + temporary);
+    f << html;
+    f.close();
+    if (!f) throw std::runtime_error("writing " + temporary + " failed");
+  });
 }
 
 }  // namespace sillstone

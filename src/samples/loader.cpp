@@ -17,6 +17,7 @@
 #include <mutex>
 #include <numeric>
 
+#include "core/capped_list.hpp"
 #include "samples/csv_lines.hpp"
 #include "sillstone/error.hpp"
 #include "sillstone/format.hpp"
@@ -431,12 +432,16 @@ SampleSet load_samples(const SampleOptions& options) {
       const std::size_t first = order[i];  // lowest source index, thanks to the tie-break
       ++sum.duplicate_locations;
       sum.duplicate_rows_removed += j - i - 1;
-      std::string note = rows[first].id;
-      for (std::size_t k = i + 1; k < j; ++k) note += " = " + rows[order[k]].id;
+      // A few of the rows by name, the rest counted (a location may hold millions).
+      std::vector<std::string> ids;
+      for (std::size_t k = i; k < j && ids.size() < detail::kListedEntries; ++k)
+        ids.push_back(rows[order[k]].id);
+      const std::string note = detail::capped_join(ids, j - i, " = ", "rows");
       if (options.duplicates == DuplicatePolicy::error)
         throw InputError(kComponent, file + ": several samples at one location (" + note +
                                          "); choose --duplicates average or first");
-      if (sum.duplicate_examples.size() < 5) sum.duplicate_examples.push_back(note);
+      if (sum.duplicate_examples.size() < detail::kListedEntries)
+        sum.duplicate_examples.push_back(note);
       if (options.duplicates == DuplicatePolicy::average) {
         for (std::size_t v = 0; v < nv; ++v) {
           double total = 0;
@@ -507,12 +512,11 @@ SampleSet load_samples(const SampleOptions& options) {
     sum.warnings.push_back(std::to_string(sum.dropped_no_value) +
                            " row(s) without any value were dropped");
   if (sum.duplicate_locations) {
-    std::string examples;
-    for (const auto& e : sum.duplicate_examples) examples += (examples.empty() ? "" : "; ") + e;
+    const std::string examples =
+        detail::capped_join(sum.duplicate_examples, sum.duplicate_locations, "; ", "locations");
     sum.warnings.push_back(
         std::to_string(sum.duplicate_locations) + " location(s) hold more than one sample (" +
-        examples + (sum.duplicate_locations > sum.duplicate_examples.size() ? "; ..." : "") +
-        "); " +
+        examples + "); " +
         (options.duplicates == DuplicatePolicy::average ? "values averaged" : "first row kept") +
         " (--duplicates " + std::string(name_of(options.duplicates)) + ")");
   }

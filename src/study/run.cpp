@@ -15,6 +15,7 @@
 #include "sillstone/error.hpp"
 #include "sillstone/format.hpp"
 #include "sillstone/kriging.hpp"
+#include "sillstone/kriging_sink.hpp"
 #include "sillstone/model.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/outputs.hpp"
@@ -141,7 +142,7 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   const GridSpec grid = plan_grid(st.grid, samples, st.mask, &log);
   const std::size_t extra = std::isnan(st.kriging.threshold) ? 0 : 1;
   check_output_size(grid, three_d ? 5 + extra : 2 + extra, three_d,
-                    out(three_d ? "blocks.csv" : "estimate.tif"));
+                    out(three_d ? "blocks.csv" : "estimate.tif"), KrigedGrid::bytes(grid, extra));
   if (!st.kriging.external_drift.empty()) check_external_drift(st.kriging.external_drift, samples);
   for (const auto& alt : st.crossval_also)
     if (!alt.options.external_drift.empty()) check_external_drift(alt.options.external_drift, samples);
@@ -216,23 +217,28 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   }
 
   stage("kriging");
+  // The files are written and the result kept in memory for the report in one pass.
   KrigingSummary ks;
-  std::string map_path;
+  MemorySink kept;
+  GridKrigingOptions gko;
+  std::unique_ptr<KrigingSink> file;
   if (three_d) {
-    map_path = stage_output("blocks.csv");
     TableTarget table;
-    table.path = map_path;
-    table.blocks = st.blocks;
-    ks = krige_table(engine, grid, table);
+    table.path = stage_output("blocks.csv");
+    file = std::make_unique<TableFileSink>(table);
+    gko.table_order = true;
+    gko.blocks = st.blocks;
   } else {
-    map_path = stage_output("estimate.tif");
     RasterTarget target;
-    target.path = map_path;
+    target.path = stage_output("estimate.tif");
     target.format = st.format;
-    target.mask = st.mask;
     target.metadata = map_metadata(samples, model, ko, st.neighbourhood);
-    ks = krige_raster(engine, grid, target);
+    file = std::make_unique<RasterFileSink>(target, ko.threads);
+    gko.mask = st.mask;
   }
+  TeeSink both({file.get(), &kept});
+  ks = krige_grid(engine, grid, gko, both);
+  const KrigedGrid kriged = kept.take();
   log.warnings_from(ks.warnings);
   result.notes = log.notes;
   result.warnings = log.warnings;
@@ -268,7 +274,7 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   report.kriging = &ko;
   report.grid = &grid;
   report.kriging_summary = &ks;
-  report.map_path = map_path;
+  report.result = &kriged;
   report.inputs = inputs;
   report.warnings = result.warnings;
   report.notes = result.notes;

@@ -17,6 +17,7 @@
 #include <cstring>
 #include <limits>
 
+#include "core/capped_list.hpp"
 #include "sillstone/error.hpp"
 #include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
@@ -578,7 +579,8 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
     std::string label = dir.omni ? "omnidirectional" : "";
     if (dir.azimuth) label = "azimuth " + format(*dir.azimuth);
     if (dir.dip) label += (label.empty() ? "" : " ") + std::string("dip ") + format(*dir.dip);
-    std::string few, none;
+    std::vector<std::string> few, none;  // a few classes named, the rest counted
+    std::size_t few_count = 0, none_count = 0;
     for (std::size_t k = 0; k < nclass; ++k) {
       const Sums& s = total.classes[r * nclass + k];
       VariogramRow row;
@@ -594,17 +596,19 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
       const std::string bounds = "(" + format(edges[k]) + ", " + format(edges[k + 1]) + "]";
       if (s.n == 0) {
         ++v.summary.empty_classes;
-        none += (none.empty() ? "" : ", ") + bounds;
+        if (++none_count <= detail::kListedEntries) none.push_back(bounds);
       } else if (!std::isfinite(row.value)) {
         ++undefined_classes;
       }
       if (s.n > 0 && s.n < kFewPairs) {
         ++v.summary.sparse_classes;
-        few += (few.empty() ? "" : ", ") + bounds;
+        if (++few_count <= detail::kListedEntries) few.push_back(bounds);
       }
     }
-    if (!few.empty()) sparse.push_back(label + ": " + few);
-    if (!none.empty()) empty.push_back(label + ": " + none);
+    if (few_count)
+      sparse.push_back(label + ": " + detail::capped_join(few, few_count, ", ", "classes"));
+    if (none_count)
+      empty.push_back(label + ": " + detail::capped_join(none, none_count, ", ", "classes"));
   }
   auto join = [](const std::vector<std::string>& parts) {
     std::string out;

@@ -45,6 +45,7 @@ PUBLIC_HEADERS = {
     "neighbourhood.hpp": "kriging",
     "kriging.hpp": "kriging",
     "crossval.hpp": "kriging",
+    "kriging_sink.hpp": "kriging",  # the sink interface; file sinks live in src/outputs
     "plots.hpp": "report",
     "report.hpp": "report",
     "pipeline.hpp": "pipeline",

@@ -8,6 +8,7 @@
 #include <sillstone/fit.hpp>
 #include <sillstone/grid.hpp>
 #include <sillstone/kriging.hpp>
+#include <sillstone/kriging_sink.hpp>
 #include <sillstone/model.hpp>
 #include <sillstone/report.hpp>
 #include <sillstone/samples.hpp>
@@ -144,7 +145,11 @@ int run() {
   const GridSpec grid = make_grid(go, 2, {}, samples.crs_wkt);
   RasterTarget target;
   target.path = (scratch / "estimate.tif").string();
-  const KrigingSummary ks = krige_raster(engine, grid, target);
+  RasterFileSink file(target, 1);
+  MemorySink kept;  // the report takes the kriged grid from memory
+  TeeSink both({&file, &kept});
+  const KrigingSummary ks = krige_grid(engine, grid, {}, both);
+  const KrigedGrid kriged = kept.take();
   require(ks.targets == 144 && ks.estimated == 144, "every one of the 144 nodes is estimated");
   require(fs::exists(target.path), "the raster was not written");
 
@@ -173,7 +178,7 @@ int run() {
   in.kriging = &ko;
   in.grid = &grid;
   in.kriging_summary = &ks;
-  in.map_path = target.path;
+  in.result = &kriged;
   in.version = version();
   write(scratch / "report.html", render_report(in));
   const std::string html = read(scratch / "report.html");
