@@ -51,7 +51,11 @@ VerbRunner add_variogram(CLI::App& app) {
         throw InputError("variogram", a.output_path + ": -o writes .csv or .json");
       check_output_path(a.output_path, a.overwrite);
     }
-    if (!a.surface_path.empty()) check_output_path(a.surface_path, a.overwrite);
+    if (!a.surface_path.empty()) {
+      check_output_extension(a.surface_path, {".tif", ".tiff"}, "--surface",
+                             "the variogram surface (a GeoTIFF raster)");
+      check_output_path(a.surface_path, a.overwrite);
+    }
 
     const SampleSet samples = load_samples(resolve(a.samples));
     std::vector<std::string> notes, warnings;

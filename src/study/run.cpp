@@ -18,6 +18,7 @@
 #include "sillstone/model.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/outputs.hpp"
+#include "sillstone/raster.hpp"
 #include "sillstone/report.hpp"
 #include "sillstone/study.hpp"
 #include "sillstone/summary.hpp"
@@ -110,6 +111,7 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   RunFolder folder(dir, names, overwrite);  // checks every output name, refuses "/"
   result.folder = folder.path();
   const auto out = [&result](const char* name) { return (fs::path(result.folder) / name).string(); };
+  if (!three_d) raster_driver_for(out("estimate.tif"), st.format, "-o", "[output] format");
 
   const GridSpec grid = make_grid(st.grid, samples.dimension, sample_extent(samples), samples.crs_wkt);
   const std::size_t extra = std::isnan(st.kriging.threshold) ? 0 : 1;
