@@ -23,6 +23,7 @@
 #include "sillstone/kriging.hpp"
 #include "sillstone/outputs.hpp"
 #include "sillstone/raster.hpp"
+#include "sillstone/samples.hpp"
 
 namespace sillstone {
 namespace {
@@ -37,6 +38,7 @@ int thread_count(int requested) {
 class Mask {
  public:
   Mask(const std::string& path, const GridSpec& grid) {
+    refuse_special_input(path, kComponent, "--mask");
     GDALAllRegister();
     ds_.reset(GDALDataset::Open(path.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY, nullptr, nullptr,
                                 nullptr));
@@ -103,6 +105,7 @@ class Mask {
 
 // The cells of `grid` that hold at least one point of a block list.
 std::vector<unsigned char> listed_blocks(const std::string& path, const GridSpec& g) {
+  refuse_special_input(path, kComponent, "--blocks");
   GDALAllRegister();
   std::unique_ptr<GDALDataset> ds(GDALDataset::Open(path.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY,
                                                     nullptr, nullptr, nullptr));
