@@ -1,12 +1,17 @@
 // sillstone/outputs.hpp -- writing outputs without ever losing anything.
 //
 // Every output is written under a temporary name in its own folder and
-// renamed to the final name only when complete, so an interrupted run leaves
-// either the previous file or no file under the final name, never a
-// truncated one. Existing outputs are replaced only with `overwrite`.
-// Temporary files are removed on SIGINT and SIGTERM (exit status 130 / 143)
-// once install_interrupt_cleanup() has run. A core helper: every stage that
-// writes a file writes through it (src/core/pending_output.cpp).
+// published under the final name only when complete, so an interrupted run
+// leaves either the previous file or no file under the final name, never a
+// truncated one. Without `overwrite` a new output is published with link(2),
+// which fails when the name is taken, so of two programs writing the same new
+// output one wins and the other is refused; with `overwrite` it is renamed
+// over the previous file. Only regular files are ever replaced: a symbolic
+// link, folder, FIFO, socket or device under the output's name is refused.
+// Temporary files (and a run folder being filled) are removed on SIGINT and
+// SIGTERM (exit status 130 / 143) once install_interrupt_cleanup() has run.
+// A core helper: every stage that writes a file writes through it
+// (src/core/pending_output.cpp).
 //
 // Example:
 //   sillstone::check_output_path("out/model.json", overwrite);  // before any work
@@ -17,13 +22,21 @@
 
 #include <functional>
 #include <string>
+#include <vector>
 
 namespace sillstone {
 
 /// Refuses (InputError, component "output") an output whose folder does not
-/// exist, which is a folder itself, or which exists while `overwrite` is false.
-/// Call it for every output before any long work starts.
+/// exist; whose name is a symbolic link, a folder, a FIFO, a socket or a
+/// device (whatever `overwrite` says); or which exists while `overwrite` is
+/// false. Call it for every output before any long work starts.
 void check_output_path(const std::string& path, bool overwrite);
+
+/// Refuses (InputError, component "output") an output path whose extension,
+/// compared without case, is none of `extensions` (".csv", ".json", ...).
+/// The message names `option` (e.g. "-o") and says what `what` is written as.
+void check_output_extension(const std::string& path, const std::vector<std::string>& extensions,
+                            const std::string& option, const std::string& what);
 
 /// One output being written. Not copyable; movable.
 class PendingOutput {
@@ -42,13 +55,52 @@ class PendingOutput {
   const std::string& temp_path() const { return temp_; }
   const std::string& final_path() const { return final_; }
 
-  /// Renames the temporary file to the final name (atomic on one filesystem).
+  /// Publishes the temporary file under the final name (atomic on one file
+  /// system). Without `overwrite` it is linked to the final name, and an
+  /// InputError is thrown when that name was taken meanwhile (by another
+  /// program): the file there is left as it was. With `overwrite` it is
+  /// renamed over the previous file, after checking again that this is a
+  /// regular file.
   void commit();
 
  private:
   std::string final_, temp_;
   int slot_ = -1;  // registry slot for interrupt cleanup
+  bool overwrite_ = false;
   bool committed_ = false;
+};
+
+/// The folder of a `run`, checked and created before any output is written.
+///
+/// Refused (InputError, component "output"): an empty name (component "run");
+/// a path that exists and is not a folder; a missing parent folder; the root
+/// of the file system (even with `overwrite`); an output of `own_names`
+/// already there, or anything else than those names and their temporaries,
+/// unless `overwrite` is given. With `overwrite` a folder holding other files
+/// is accepted and only the run's own names are replaced; the other files are
+/// left alone.
+///
+/// A folder this object created is removed again (only when empty: nothing
+/// else is removed) when the object is destroyed before keep() (a run that
+/// failed) or when the program is interrupted by SIGINT or SIGTERM.
+class RunFolder {
+ public:
+  RunFolder(const std::string& dir, const std::vector<std::string>& own_names, bool overwrite);
+  ~RunFolder();
+  RunFolder(const RunFolder&) = delete;
+  RunFolder& operator=(const RunFolder&) = delete;
+
+  /// The folder, normalised ("runs/site/" gives "runs/site").
+  const std::string& path() const { return path_; }
+  /// Whether this object created the folder.
+  bool created() const { return created_; }
+  /// The run is complete: the folder stays.
+  void keep();
+
+ private:
+  std::string path_;
+  int slot_ = -1;  // registry slot for interrupt cleanup
+  bool created_ = false, kept_ = false;
 };
 
 /// Writes `text` to `path` through a PendingOutput.

@@ -19,7 +19,7 @@ struct RasterLayout {
   GridSpec grid;                              ///< 2D grid: size, geotransform, CRS
   std::vector<std::string> bands;             ///< band descriptions, e.g. "estimate", "variance"
   double nodata = -9999.0;                    ///< written for masked or unestimable cells
-  std::string format = "GTiff";               ///< any GDAL raster driver that supports Create()
+  std::string format = "GTiff";               ///< a GDAL raster driver that supports Create()
   std::vector<std::pair<std::string, std::string>> metadata;  ///< dataset metadata items
   /// Threads GDAL may use to compress GeoTIFF tiles (its NUM_THREADS);
   /// the file is the same byte for byte for any count.
@@ -30,9 +30,15 @@ struct RasterLayout {
 /// grids that cannot fit before any work starts.
 double raster_bytes(const GridSpec& grid, std::size_t bands);
 
-/// The GDAL driver short name for an output path's extension (".tif" ->
-/// "GTiff", ".img" -> "HFA", ".nc" -> "netCDF", ...); `format` wins when given.
-std::string raster_driver_for(const std::string& path, const std::string& format);
+/// The GDAL driver of a raster output, "GTiff": rasters are written as
+/// GeoTIFF, the one raster format whose whole output (bands, descriptions,
+/// nodata, CRS, metadata) lands in the one file that is published, and which
+/// the tests read back. Refuses (InputError, component "output") a path
+/// whose extension is not .tif or .tiff (naming `path_option` and the
+/// extension), and a `format` other than "GTiff" (naming `format_option`).
+std::string raster_driver_for(const std::string& path, const std::string& format,
+                              const std::string& path_option = "-o",
+                              const std::string& format_option = "--format");
 
 class RasterWriter {
  public:

@@ -100,6 +100,19 @@ struct SampleSet {
 /// to repair and records it in `summary`.
 SampleSet load_samples(const SampleOptions& options);
 
+/// Refuses (InputError from `component`) an input path that names a FIFO, a
+/// socket or a device: opening one would wait for a writer that may never
+/// come, or read a stream rather than a file. Uses stat(2), which never
+/// blocks, before anything opens the path; a link is judged by what it
+/// points to. GDAL virtual paths ("/vsizip/...", "/vsicurl/...") are left to
+/// GDAL, and missing paths, folders and regular files pass (their readers
+/// say what is wrong with them). `role` names the input, e.g. "--mask".
+void refuse_special_input(const std::string& path, const std::string& component,
+                          const std::string& role);
+
+/// Whether `path` is a GDAL virtual file system path ("/vsizip/...").
+bool is_gdal_virtual_path(const std::string& path);
+
 /// Refuses (InputError from `component`, naming the file and the column) a
 /// value column whose values are all equal: with zero variance there is no
 /// spatial variation to fit a model to. Missing values are ignored.

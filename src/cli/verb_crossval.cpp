@@ -32,7 +32,10 @@ VerbRunner add_crossval(CLI::App& app) {
 
   return [a, verb]() -> int {
     if (!verb->parsed()) return -1;
-    if (!a->output.empty()) check_output_path(a->output, a->overwrite);
+    if (!a->output.empty()) {
+      check_output_extension(a->output, {".csv"}, "-o", "the per-sample table");
+      check_output_path(a->output, a->overwrite);
+    }
     const ModelFile model = load_model(a->kriging.model);
     StageLog log;
     const KrigingOptions options =

@@ -106,8 +106,7 @@ VerbRunner add_fit(CLI::App& app) {
     VariogramOptions vo = resolve(a.variogram);
     check_variogram_options(vo);
     if (!a.output_path.empty()) {
-      if (std::filesystem::path(a.output_path).extension() != ".json")
-        throw InputError("fit", a.output_path + ": -o writes a model file, MODEL.json");
+      check_output_extension(a.output_path, {".json"}, "-o", "the model file");
       check_output_path(a.output_path, a.overwrite);
     }
 

@@ -1,4 +1,5 @@
 // `sillstone krige`: kriging onto a grid (raster) or a block model (table).
+#include <cctype>
 #include <cmath>
 #include <filesystem>
 #include <iostream>
@@ -21,8 +22,9 @@ namespace sillstone::cli {
 namespace {
 
 bool is_table(const std::string& path) {
-  const std::string ext = std::filesystem::path(path).extension().string();
-  return ext == ".csv" || ext == ".CSV" || ext == ".gpkg" || ext == ".GPKG";
+  std::string ext = std::filesystem::path(path).extension().string();
+  for (char& c : ext) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
+  return ext == ".csv" || ext == ".gpkg";
 }
 
 }  // namespace
@@ -51,15 +53,19 @@ VerbRunner add_krige(CLI::App& app) {
   verb->add_option("--blocks", a->blocks,
                    "Block models: estimate only the cells holding a point of this list (x,y,z)");
   verb->add_option("-o,--output", a->output,
-                   "Output raster (.tif, any GDAL format), or .csv/.gpkg for a block table")
+                   "Output raster (.tif, .tiff: GeoTIFF), or .csv/.gpkg for a block table")
       ->required();
-  verb->add_option("--format", a->format, "GDAL raster format (default: from the extension)");
+  verb->add_option("--format", a->format,
+                   "Raster format: GTiff, the only one written (default: from the extension)");
   verb->add_flag("--overwrite", a->overwrite, "Replace an existing output");
   add_output_options(*verb, a->out);
 
   return [a, verb]() -> int {
     if (!verb->parsed()) return -1;
     check_output_path(a->output, a->overwrite);
+    check_output_extension(a->output, {".tif", ".tiff", ".csv", ".gpkg"}, "-o",
+                           "a kriged grid (raster) or block table");
+    if (!is_table(a->output)) raster_driver_for(a->output, a->format);
     std::string why;
     if (!a->grid.is_valid(&why)) throw InputError("krige", why);
     const ModelFile model = load_model(a->kriging.model);

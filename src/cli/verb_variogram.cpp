@@ -1,5 +1,4 @@
 // `sillstone variogram`: the empirical variogram, its table and its surface.
-#include <filesystem>
 #include <iostream>
 #include <memory>
 
@@ -46,12 +45,14 @@ VerbRunner add_variogram(CLI::App& app) {
     // Check everything that can be checked before the samples are read.
     check_variogram_options(o);
     if (!a.output_path.empty()) {
-      const std::string ext = std::filesystem::path(a.output_path).extension().string();
-      if (ext != ".csv" && ext != ".json")
-        throw InputError("variogram", a.output_path + ": -o writes .csv or .json");
+      check_output_extension(a.output_path, {".csv", ".json"}, "-o", "the variogram table");
       check_output_path(a.output_path, a.overwrite);
     }
-    if (!a.surface_path.empty()) check_output_path(a.surface_path, a.overwrite);
+    if (!a.surface_path.empty()) {
+      check_output_extension(a.surface_path, {".tif", ".tiff"}, "--surface",
+                             "the variogram surface (a GeoTIFF raster)");
+      check_output_path(a.surface_path, a.overwrite);
+    }
 
     StageLog log;
     const SampleSet samples = load_stage(resolve(a.samples), &log);

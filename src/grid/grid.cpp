@@ -6,6 +6,7 @@
 #include "sillstone/error.hpp"
 #include "sillstone/format.hpp"
 #include "sillstone/grid.hpp"
+#include "sillstone/samples.hpp"
 
 namespace sillstone {
 namespace {
@@ -53,6 +54,7 @@ GridSpec make_grid(const GridOptions& o, int dimension, const std::vector<double
 
   if (!o.like.empty()) {
     if (dimension == 3) throw InputError(kComponent, "--like describes 2D grids only");
+    refuse_special_input(o.like, kComponent, "--like");
     GDALAllRegister();
     std::unique_ptr<GDALDataset> ds(GDALDataset::Open(
         o.like.c_str(), GDAL_OF_RASTER | GDAL_OF_READONLY, nullptr, nullptr, nullptr));

@@ -8,6 +8,7 @@
 #include <string>
 
 #include "sillstone/error.hpp"
+#include "sillstone/outputs.hpp"
 #include "sillstone/raster.hpp"
 
 namespace sillstone {
@@ -17,17 +18,17 @@ double raster_bytes(const GridSpec& grid, std::size_t bands) {
          static_cast<double>(bands) * sizeof(double);
 }
 
-std::string raster_driver_for(const std::string& path, const std::string& format) {
-  if (!format.empty()) return format;
-  std::string ext = std::filesystem::path(path).extension().string();
-  std::transform(ext.begin(), ext.end(), ext.begin(),
-                 [](unsigned char c) { return static_cast<char>(std::tolower(c)); });
-  if (ext == ".tif" || ext == ".tiff") return "GTiff";
-  if (ext == ".img") return "HFA";
-  if (ext == ".nc") return "netCDF";
-  if (ext == ".asc") return "AAIGrid";
-  if (ext == ".vrt") return "VRT";
-  if (ext == ".kea") return "KEA";
+std::string raster_driver_for(const std::string& path, const std::string& format,
+                              const std::string& path_option, const std::string& format_option) {
+  // Other drivers are left out: PNG, JPEG and ASCII grids cannot be written
+  // band by band (no Create in GDAL 3.6); a VRT created empty holds no
+  // pixels; HFA (.img) puts dataset metadata in a side file (.aux.xml,
+  // seen with Debian 12's GDAL 3.6) that would keep the temporary name; and
+  // netCDF is not tested here. Refused rather than written untested.
+  if (!format.empty() && !EQUAL(format.c_str(), "GTiff"))
+    throw InputError("output", format_option + " " + format +
+                                   ": sillstone writes rasters as GeoTIFF only (GTiff)");
+  check_output_extension(path, {".tif", ".tiff"}, path_option, "a raster");
   return "GTiff";
 }
 

@@ -18,6 +18,7 @@
 #include "sillstone/format.hpp"
 #include "sillstone/kriging.hpp"
 #include "sillstone/names.hpp"
+#include "sillstone/samples.hpp"
 #include "sillstone/summary.hpp"
 
 namespace sillstone {
@@ -63,6 +64,7 @@ int drift_columns(const KrigingOptions& o, int dimension) {
 // a raster too large to hold in memory. Fills `gt` with its geotransform.
 std::unique_ptr<GDALDataset> open_external_drift(const std::string& path, const SampleSet& samples,
                                                  double* gt) {
+  refuse_special_input(path, kComponent, "--external-drift");
   GDALAllRegister();
   std::unique_ptr<GDALDataset> ds(GDALDataset::Open(path.c_str(), GDAL_OF_RASTER | GDAL_OF_READONLY,
                                                     nullptr, nullptr, nullptr));

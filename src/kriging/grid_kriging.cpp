@@ -19,6 +19,7 @@
 #include "sillstone/format.hpp"
 #include "sillstone/kriging.hpp"
 #include "sillstone/kriging_sink.hpp"
+#include "sillstone/samples.hpp"
 
 namespace sillstone {
 namespace {
@@ -33,6 +34,7 @@ int thread_count(int requested) {
 class Mask {
  public:
   Mask(const std::string& path, const GridSpec& grid) {
+    refuse_special_input(path, kComponent, "--mask");
     GDALAllRegister();
     ds_.reset(GDALDataset::Open(path.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY, nullptr, nullptr,
                                 nullptr));
@@ -99,6 +101,7 @@ class Mask {
 
 // The cells of `grid` that hold at least one point of a block list.
 std::vector<unsigned char> listed_blocks(const std::string& path, const GridSpec& g) {
+  refuse_special_input(path, kComponent, "--blocks");
   GDALAllRegister();
   std::unique_ptr<GDALDataset> ds(GDALDataset::Open(path.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY,
                                                     nullptr, nullptr, nullptr));

@@ -17,6 +17,7 @@
 #include "models/model_detail.hpp"
 #include "sillstone/error.hpp"
 #include "sillstone/names.hpp"
+#include "sillstone/samples.hpp"
 
 namespace sillstone {
 namespace {
@@ -269,6 +270,7 @@ ModelFile load_model(const std::string& model_option) {
   const bool json_name =
       model_option.size() >= suffix.size() &&
       model_option.compare(model_option.size() - suffix.size(), suffix.size(), suffix) == 0;
+  refuse_special_input(model_option, "model", "--model");  // a FIFO would block the read
   std::error_code ignored;  // an unreadable path is then taken as a SPEC, whose error says more
   if (!json_name && !std::filesystem::is_regular_file(model_option, ignored)) {
     ModelFile out;

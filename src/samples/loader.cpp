@@ -173,15 +173,19 @@ SampleSet load_samples(const SampleOptions& options) {
 
   const std::string& file = options.path;
   namespace fs = std::filesystem;
-  std::error_code ec;
-  const fs::file_status status = fs::status(file, ec);
-  if (!fs::exists(status)) throw InputError(kComponent, file + ": no such file");
-  if (fs::is_directory(status) && fs::path(file).extension() != ".gdb")
-    throw InputError(kComponent, file + ": is a folder, not a samples file");
-  if (fs::is_regular_file(status) && fs::file_size(file, ec) == 0)
-    throw InputError(kComponent, file + ": the file is empty");
-
-  refuse_leading_blank_lines(file);
+  // A FIFO or device is refused before anything opens it (opening a FIFO
+  // waits for a writer); GDAL virtual paths (/vsizip/...) go to GDAL as they are.
+  refuse_special_input(file, kComponent, "SAMPLES");
+  if (!is_gdal_virtual_path(file)) {
+    std::error_code ec;
+    const fs::file_status status = fs::status(file, ec);
+    if (!fs::exists(status)) throw InputError(kComponent, file + ": no such file");
+    if (fs::is_directory(status) && fs::path(file).extension() != ".gdb")
+      throw InputError(kComponent, file + ": is a folder, not a samples file");
+    if (fs::is_regular_file(status) && fs::file_size(file, ec) == 0)
+      throw InputError(kComponent, file + ": the file is empty");
+    refuse_leading_blank_lines(file);
+  }
 
   std::unique_ptr<GDALDataset> ds(GDALDataset::Open(file.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY,
                                                     nullptr, nullptr, nullptr));

@@ -20,6 +20,7 @@
 #include "sillstone/names.hpp"
 #include "sillstone/outputs.hpp"
 #include "sillstone/pipeline.hpp"
+#include "sillstone/raster.hpp"
 #include "sillstone/report.hpp"
 #include "sillstone/study.hpp"
 #include "sillstone/summary.hpp"
@@ -38,23 +39,6 @@ std::string utc_now() {
   char buf[32];
   std::strftime(buf, sizeof buf, "%Y-%m-%dT%H:%M:%SZ", &tm);
   return buf;
-}
-
-// The folder of the run: created when its parent exists.
-std::string prepare_folder(const std::string& dir) {
-  if (dir.empty())
-    throw InputError("run", "no run folder: give -o DIR or [output] dir = \"...\" in the study");
-  fs::path p = fs::path(dir).lexically_normal();
-  if (!p.has_filename() && p.has_parent_path()) p = p.parent_path();  // "runs/site/"
-  std::error_code ec;
-  if (fs::exists(p, ec) && !fs::is_directory(p, ec))
-    throw InputError("output", dir + ": exists and is not a folder");
-  const fs::path parent = p.has_parent_path() ? p.parent_path() : fs::path(".");
-  if (!fs::is_directory(parent, ec))
-    throw InputError("output", dir + ": the folder " + parent.string() + " does not exist");
-  fs::create_directory(p, ec);
-  if (ec) throw std::runtime_error("cannot create " + dir + ": " + ec.message());
-  return p.string();
 }
 
 nlohmann::json cross_validation_json(
@@ -78,28 +62,6 @@ nlohmann::json cross_validation_json(
 }  // namespace
 
 namespace {
-
-// The run folder while a run is under way: removed again when the run fails
-// and this run created it (only when empty: nothing else is ever removed).
-class FolderGuard {
- public:
-  explicit FolderGuard(const std::string& dir) : path_(dir) {
-    std::error_code ec;
-    created_ = !fs::exists(path_, ec);
-  }
-  ~FolderGuard() {
-    if (!created_ || kept_) return;
-    std::error_code ec;
-    fs::remove(path_, ec);  // fails harmlessly unless empty
-  }
-  FolderGuard(const FolderGuard&) = delete;
-  FolderGuard& operator=(const FolderGuard&) = delete;
-  void keep() { kept_ = true; }
-
- private:
-  fs::path path_;
-  bool created_ = false, kept_ = false;
-};
 
 void write_file(const std::string& path, const std::string& text) {
   std::ofstream f(path, std::ios::binary | std::ios::trunc);
@@ -127,14 +89,14 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   if (st.model.kind != ModelChoice::Kind::spec) require_variation(samples, 0, "run");
   const bool three_d = samples.dimension == 3;
   const std::string dir = ro.output_dir.empty() ? st.output_dir : ro.output_dir;
-  FolderGuard guard(dir);
-  result.folder = prepare_folder(dir);
-  const auto out = [&result](const char* name) { return (fs::path(result.folder) / name).string(); };
   std::vector<std::string> names = {"summary.json", "variogram.csv", "model.json", "crossval.csv",
                                     three_d ? "blocks.csv" : "estimate.tif", "report.html",
                                     "run.json"};
   if (!three_d) names.push_back("variogram_surface.tif");
-  for (const auto& n : names) check_output_path(out(n.c_str()), overwrite);
+  RunFolder folder(dir, names, overwrite);  // checks every output name, refuses "/"
+  result.folder = folder.path();
+  const auto out = [&result](const char* name) { return (fs::path(result.folder) / name).string(); };
+  if (!three_d) raster_driver_for(out("estimate.tif"), st.format, "-o", "[output] format");
 
   if (three_d && !st.mask.empty())
     throw InputError("study", st.path + ": [grid] mask applies to 2D rasters; a 3D block "
@@ -316,7 +278,7 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
     staged[i]->commit();
     result.files.push_back(final_paths[i]);
   }
-  guard.keep();
+  folder.keep();
   result.report = out("report.html");
   return result;
 }

@@ -15,6 +15,7 @@
 
 #include "sillstone/error.hpp"
 #include "sillstone/names.hpp"
+#include "sillstone/samples.hpp"
 #include "sillstone/study.hpp"
 
 namespace sillstone {
@@ -115,6 +116,7 @@ Study read_study(const std::string& path) {
   std::error_code ec;
   if (!fs::exists(path, ec)) throw InputError("study", path + ": no such file");
   if (fs::is_directory(path, ec)) throw InputError("study", path + ": is a folder, not a study file");
+  refuse_special_input(path, "study", "STUDY");
   std::ifstream in(path, std::ios::binary);
   if (!in) throw InputError("study", path + ": cannot be opened for reading");
   std::ostringstream text;

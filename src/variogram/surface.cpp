@@ -15,6 +15,8 @@ namespace sillstone {
 
 void write_variogram_surface(const std::string& path, const EmpiricalVariogram& v, bool overwrite) {
   if (!v.surface) throw std::logic_error("write_variogram_surface: no surface was computed");
+  check_output_extension(path, {".tif", ".tiff"}, "--surface",
+                         "the variogram surface (a GeoTIFF raster)");
   const VariogramSurface& s = *v.surface;
   static std::once_flag registered;
   std::call_once(registered, [] { GDALAllRegister(); });

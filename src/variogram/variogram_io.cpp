@@ -16,6 +16,7 @@
 #include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/outputs.hpp"
+#include "sillstone/samples.hpp"
 #include "sillstone/variogram.hpp"
 #include "sillstone/version.hpp"
 
@@ -465,6 +466,7 @@ void write_variogram(const std::string& path, const EmpiricalVariogram& v, bool 
 }
 
 bool is_variogram_table(const std::string& path) {
+  refuse_special_input(path, kComponent, "INPUT");  // before the read that a FIFO would block
   std::ifstream in(path, std::ios::binary);
   if (!in) return false;
   char c = 0;

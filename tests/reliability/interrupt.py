@@ -14,7 +14,9 @@ that blocks reach the disk as they are written), then sends a signal:
   hidden ".<name>.tmp-..." file, never the final name;
 - SIGINT during `run --overwrite` over a complete run folder: every output
   of the previous run byte for byte (outputs are renamed together at the
-  end), no temporary file left.
+  end), no temporary file left;
+- SIGINT and SIGTERM during a `run` into a folder that the run created: the
+  folder is removed again (docs/run.md says so).
 
 A file at the final path must open with GDAL's Python bindings, have the
 size the run asked for, and read whole (a checksum of every band). Inputs
@@ -89,7 +91,8 @@ def start_and_signal(args, folder, final_name, sig, grown=1_000_000, timeout=300
     sent = False
     while time.monotonic() - start < timeout and p.poll() is None:
         # ".a.tmp-<pid>-<n>.tif", or nested for a run: "..estimate.tmp-...tmp-....tif"
-        temps = [n for n in os.listdir(folder) if n.startswith(".") and stem + ".tmp-" in n and n.endswith(ext)]
+        names = os.listdir(folder) if os.path.isdir(folder) else []  # a run makes its folder
+        temps = [n for n in names if n.startswith(".") and stem + ".tmp-" in n and n.endswith(ext)]
         size = max((os.path.getsize(os.path.join(folder, n)) for n in temps if
                     os.path.exists(os.path.join(folder, n))), default=-1)
         if size >= grown:
@@ -173,6 +176,15 @@ def main():
         check(sent and code == 130, f"run, SIGINT: exit status 130 (got {code}; stderr {err.strip()[-200:]!r})")
         now = {n: sha(os.path.join(folder, n)) for n in os.listdir(folder)}
         check(now == previous, "run, SIGINT: every output of the previous run is intact, byte for byte")
+
+        # 5. SIGINT and SIGTERM during a `run` into a folder it creates: the folder goes again.
+        for sig, status in ((signal.SIGINT, 130), (signal.SIGTERM, 143)):
+            fresh = os.path.join(tmp, f"fresh-run-{sig.name}")
+            code, sent, err = start_and_signal([exe, "run", study, "-o", fresh, "--quiet"], fresh,
+                                               "estimate.tif", sig)
+            check(sent and code == status,
+                  f"new run folder, {sig.name}: exit status {status} (got {code}; stderr {err.strip()[-200:]!r})")
+            check(not os.path.exists(fresh), f"new run folder, {sig.name}: the folder the run created is removed")
 
         check(sha(samples) == before, "the samples file was not modified")
 

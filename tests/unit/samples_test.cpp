@@ -1,8 +1,10 @@
 // The sample loader on files the tests write themselves (CSV, GeoPackage,
 // GeoJSON).
+#include <sys/stat.h>  // mkfifo
 #include <catch2/catch.hpp>
 
 #include <cmath>
+#include <filesystem>
 
 #include "sillstone/error.hpp"
 #include "sillstone/samples.hpp"
@@ -217,4 +219,25 @@ TEST_CASE("require_variation refuses a column whose values are all equal", "[sam
                     "variance there is no spatial variation to fit a model to");
   const SampleSet varied = load_samples(csv_options(dir.write("d.csv", "x,y,v\n0,0,2\n1,0,2\n0,1,2.0000001\n")));
   CHECK_NOTHROW(require_variation(varied, 0, "fit"));
+}
+
+// A FIFO with no writer would block open(2) for ever (POSIX open(): O_RDONLY
+// on a FIFO blocks until a writer opens it); it is refused from stat alone.
+TEST_CASE("a FIFO given as samples is refused without being opened", "[samples]") {
+  ScratchDir dir;
+  const std::string fifo = dir.path("pipe.csv");
+  REQUIRE(::mkfifo(fifo.c_str(), 0600) == 0);
+  CHECK_THROWS_WITH(load_samples(csv_options(fifo)),
+                    Catch::Contains("pipe.csv: is a FIFO (named pipe), not a file (SAMPLES)"));
+  CHECK_THROWS_WITH(refuse_special_input(fifo, "krige", "--mask"),
+                    Catch::StartsWith("krige: ") && Catch::Contains("(--mask)"));
+  // What readers judge themselves passes: regular files, folders, missing
+  // paths, GDAL virtual paths.
+  CHECK_NOTHROW(refuse_special_input(dir.write("s.csv", "x,y,v\n"), "samples", "SAMPLES"));
+  CHECK_NOTHROW(refuse_special_input(dir.path(""), "samples", "SAMPLES"));
+  CHECK_NOTHROW(refuse_special_input(dir.path("missing.csv"), "samples", "SAMPLES"));
+  CHECK_NOTHROW(
+      refuse_special_input("/vsizip/" + dir.path("a.zip") + "/s.csv", "samples", "SAMPLES"));
+  CHECK(is_gdal_virtual_path("/vsicurl/https://example.org/s.csv"));
+  CHECK_FALSE(is_gdal_virtual_path("vsizip/s.csv"));
 }
