@@ -81,6 +81,11 @@ void add_kriging_options(CLI::App& verb, KrigingArgs& args);
 /// The KrigingOptions after the enumerations were parsed (throws InputError).
 KrigingOptions resolve(const KrigingArgs& args);
 
+/// A check for options whose absence means "unlimited" or "suggested": the
+/// value must be a positive finite number, so that 0, a negative number or
+/// nan is refused (naming the option) instead of being taken as "not given".
+CLI::Validator positive_number();
+
 /// Prints each warning as one "warning: ..." line on stderr.
 void print_warnings(const std::vector<std::string>& warnings);
 

@@ -70,6 +70,8 @@ VerbRunner add_krige(CLI::App& app) {
                    "Outer edges xmin,ymin,xmax,ymax[,zmin,zmax] (default: the samples')")
       ->delimiter(',');
   verb->add_option("--like", a->grid.like, "Template raster giving size, cells and CRS");
+  verb->add_flag("--large-grid", a->grid.large_grid,
+                 "Allow a grid of more than 100 million nodes (refused otherwise)");
   verb->add_option("--mask", a->mask, "Polygons: nodes outside them are nodata");
   verb->add_option("--blocks", a->blocks,
                    "Block models: estimate only the cells holding a point of this list (x,y,z)");
@@ -105,6 +107,11 @@ VerbRunner add_krige(CLI::App& app) {
     const GridSpec grid = make_grid(a->grid, samples.dimension, extent, samples.crs_wkt);
     for (const auto& n : grid.notes) notes.push_back(n);
     const bool table = samples.dimension == 3 || is_table(a->output);
+    if (!a->blocks.empty() && !table)
+      throw InputError("krige",
+                       "--blocks applies to block tables (a .csv or .gpkg output, or 3D "
+                       "samples), not to the raster " +
+                           a->output + "; limit a raster with --mask");
     const std::size_t extra = std::isnan(options.threshold) ? 0 : 1;
     check_output_size(grid, table ? 5 + extra : 2 + extra, table, a->output);
     if (!a->mask.empty()) {
@@ -117,6 +124,7 @@ VerbRunner add_krige(CLI::App& app) {
     const KrigingEngine engine(samples, model.model, options, a->neighbourhood);
     // Warnings only once every check has passed: a refused run prints one line.
     print_warnings(samples.summary.warnings);
+    print_warnings(grid.warnings);
     print_warnings(engine.warnings());
     for (const auto& n : engine.notes()) notes.push_back(n);
     print_notes(notes, a->out.quiet);

@@ -239,6 +239,7 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
 
   stage("kriging");
   append(result.notes, grid.notes);
+  append(result.warnings, grid.warnings);
   KrigingSummary ks;
   std::string map_path;
   if (three_d) {
