@@ -228,6 +228,7 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
   if (!options.is_valid(dimension_, model, &why)) throw InputError(kComponent, why);
   if (!neighbourhood.is_valid(dimension_, &why)) throw InputError(kComponent, why);
   if (column >= samples.values.size()) throw InputError(kComponent, "no such value column");
+  require_moderate_values(samples, column, kComponent);
   if (model.dimension() == 3 && dimension_ == 2)
     throw InputError(kComponent,
                      "the model has 3D anisotropy (dip, plunge or ratio2) but the "

@@ -541,4 +541,28 @@ void require_variation(const SampleSet& samples, std::size_t column, const std::
                        "): with zero variance there is no spatial variation to fit a model to");
 }
 
+std::size_t first_extreme_value(const SampleSet& samples, std::size_t column) {
+  if (column >= samples.values.size()) return samples.size();
+  const std::vector<double>& v = samples.values[column];
+  for (std::size_t i = 0; i < v.size(); ++i)
+    if (std::abs(v[i]) > kMaxValueMagnitude) return i;  // NaN (missing) compares false
+  return samples.size();
+}
+
+void require_moderate_values(const SampleSet& samples, std::size_t column,
+                             const std::string& component) {
+  const std::size_t i = first_extreme_value(samples, column);
+  if (i >= samples.size()) return;
+  std::ostringstream value;
+  value.precision(10);
+  value << samples.values[column][i];
+  throw InputError(component,
+                   InputLocation{samples.source, i < samples.ids.size() ? samples.ids[i] : "",
+                                 samples.value_names[column]},
+                   value.str() +
+                       " is beyond +-1e100: squares and squared differences of such "
+                       "values overflow double precision; check the units or the "
+                       "value");
+}
+
 }  // namespace sillstone
