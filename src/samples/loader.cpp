@@ -26,6 +26,38 @@
 namespace sillstone {
 namespace {
 
+// Column names reach JSON outputs, which must be UTF-8: a name that is not
+// valid UTF-8 (a Latin-1 header such as "Zn_\xb5g") is read as Latin-1,
+// whose bytes are the first 256 code points. Valid UTF-8 is kept as it is.
+std::string as_utf8(const std::string& text) {
+  std::size_t i = 0;
+  bool valid = true;
+  while (i < text.size() && valid) {
+    const auto c = static_cast<unsigned char>(text[i]);
+    const std::size_t len = c < 0x80         ? 1
+                            : (c >> 5) == 6  ? 2
+                            : (c >> 4) == 14 ? 3
+                            : (c >> 3) == 30 ? 4
+                                             : 0;
+    valid = len > 0 && i + len <= text.size() && (len != 2 || c >= 0xC2);
+    for (std::size_t k = 1; valid && k < len; ++k)
+      valid = (static_cast<unsigned char>(text[i + k]) >> 6) == 2;
+    i += len;
+  }
+  if (valid) return text;
+  std::string out;
+  for (const char ch : text) {
+    const auto c = static_cast<unsigned char>(ch);
+    if (c < 0x80) {
+      out += ch;
+    } else {
+      out += static_cast<char>(0xC0 | (c >> 6));
+      out += static_cast<char>(0x80 | (c & 0x3F));
+    }
+  }
+  return out;
+}
+
 constexpr const char* kComponent = "samples";
 
 void register_gdal_once() {
@@ -62,6 +94,8 @@ int find_field(OGRFeatureDefn* defn, const std::string& name, const std::string&
                const std::string& option) {
   for (int i = 0; i < defn->GetFieldCount(); ++i)
     if (name == defn->GetFieldDefn(i)->GetNameRef()) return i;
+  for (int i = 0; i < defn->GetFieldCount(); ++i)  // a Latin-1 header named in UTF-8
+    if (name == as_utf8(defn->GetFieldDefn(i)->GetNameRef())) return i;
   const int i = defn->GetFieldIndex(name.c_str());
   if (i < 0)
     throw InputError(kComponent, InputLocation{file, "", name},
@@ -269,7 +303,7 @@ SampleSet load_samples(const SampleOptions& options) {
   set.source = file;
   set.layer = layer->GetName();
   set.dimension = fz >= 0 ? 3 : 2;
-  set.value_names = options.values;
+  for (const auto& name : options.values) set.value_names.push_back(as_utf8(name));
   set.below_detection = options.below_detection;
   set.duplicates = options.duplicates;
   LoadSummary& sum = set.summary;
