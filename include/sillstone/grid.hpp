@@ -18,8 +18,14 @@ struct GridOptions {
   std::vector<double> cell;    ///< dx[,dy[,dz]] (dy = dx and dz = dx when left out)
   std::vector<double> extent;  ///< xmin,ymin,xmax,ymax[,zmin,zmax]; empty: from `like` or the samples
   std::string like;            ///< template raster: its size, geotransform and CRS
+  bool large_grid = false;     ///< allow more than kLargeGridNodes nodes (--large-grid)
   bool is_valid(std::string* why) const;
 };
+
+/// Grids with more nodes than this are refused unless GridOptions::large_grid
+/// is set: 100 million nodes already take 800 MB per band uncompressed and
+/// minutes to hours of kriging, which a mistyped --cell should not start.
+constexpr std::int64_t kLargeGridNodes = 100'000'000;
 
 /// A regular grid, 2D (nz == 1, dimension 2) or 3D.
 struct GridSpec {
@@ -29,6 +35,7 @@ struct GridSpec {
   std::int64_t nx = 0, ny = 0, nz = 1;  ///< columns, rows, layers
   std::string crs_wkt;                  ///< the CRS of the outputs (empty: none)
   std::vector<std::string> notes;       ///< adjustments made (e.g. extent widened to whole cells)
+  std::vector<std::string> warnings;    ///< assumptions to check (e.g. a template's CRS assumed)
 
   std::int64_t nodes() const { return nx * ny * nz; }
   double x(std::int64_t col) const { return xmin + (static_cast<double>(col) + 0.5) * dx; }
@@ -44,8 +51,12 @@ struct GridSpec {
 /// Builds the grid. `samples_extent` (xmin,ymin,xmax,ymax[,zmin,zmax]) is used
 /// when neither an extent nor a template is given. An extent that is not a
 /// whole number of cells is widened east and south (and up) to whole cells,
-/// with a note. Throws InputError for zero-area extents, non-positive cells,
-/// unreadable or rotated templates, and grids over `max_nodes`.
+/// with a note; another note states the grid's size (nodes, bytes per band).
+/// Throws InputError for zero-area extents, non-positive cells, cells larger
+/// than the extent, a third cell size or extent pair on 2D data, unreadable
+/// or rotated templates, a template whose CRS is not the samples' (or has
+/// none when the samples have one), grids over kLargeGridNodes without
+/// `large_grid`, and grids over `max_nodes`.
 GridSpec make_grid(const GridOptions& options, int dimension,
                    const std::vector<double>& samples_extent, const std::string& crs_wkt,
                    std::int64_t max_nodes = 4'000'000'000LL);

@@ -191,6 +191,9 @@ class KrigingEngine {
   void diagnose(const SampleSet& samples, const std::vector<std::size_t>& used);
   double cov(double dx, double dy, double dz) const;
   void drift_row(const Point& centred, double external, double* f) const;
+  /// Condition number of the drift matrix of samples nb[0..n), its
+  /// non-constant columns centred and scaled (infinite for a constant term).
+  double drift_condition(const std::uint32_t* nb, std::size_t n) const;
   void right_hand_side(const Point& centred_target, Workspace& ws, double external) const;
   NodeEstimate estimate_intrinsic(const Point& centred_target, Workspace& ws, double external,
                                   std::vector<std::pair<std::uint32_t, double>>* weights,

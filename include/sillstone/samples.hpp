@@ -118,6 +118,22 @@ bool is_gdal_virtual_path(const std::string& path);
 /// spatial variation to fit a model to. Missing values are ignored.
 void require_variation(const SampleSet& samples, std::size_t column, const std::string& component);
 
+/// Largest magnitude of a value that variograms, fits, cross-validation and
+/// kriging accept. Their squares and squared differences stay below 4e200,
+/// so sums of them over any number of pairs stay finite; a measured value
+/// never comes near it, so a value beyond it is a unit or typing error.
+constexpr double kMaxValueMagnitude = 1e100;
+
+/// The first value of `column` beyond +-kMaxValueMagnitude, as an index into
+/// the samples, or samples.size() when there is none.
+std::size_t first_extreme_value(const SampleSet& samples, std::size_t column);
+
+/// Refuses (InputError from `component`, naming the file, row and column) a
+/// value beyond +-kMaxValueMagnitude: its square, or its squared difference
+/// from another value, would overflow or come near the double range.
+void require_moderate_values(const SampleSet& samples, std::size_t column,
+                             const std::string& component);
+
 /// How a single cell of a value column was read.
 struct ParsedValue {
   enum class Kind { number, missing, below_detection, invalid } kind = Kind::invalid;

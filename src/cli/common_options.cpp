@@ -4,6 +4,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdlib>
 #include <iostream>
 #include <memory>
 
@@ -54,14 +55,29 @@ SampleOptions resolve(const SampleArgs& a) {
   return o;
 }
 
+CLI::Validator positive_number() {
+  return CLI::Validator(
+      [](std::string& text) -> std::string {
+        char* end = nullptr;
+        const double v = std::strtod(text.c_str(), &end);
+        if (end == text.c_str() || *end != '\0' || !(v > 0) || !std::isfinite(v))
+          return "must be a positive number (got " + text +
+                 "); leave the option out for its default";
+        return {};
+      },
+      "POSITIVE");
+}
+
 void add_variogram_options(CLI::App& verb, VariogramArgs& args) {
   VariogramOptions& o = args.options;
-  verb.add_option("--lag", o.lag, "Lag class width W (classes (iW, (i+1)W])");
-  verb.add_option("--lags", o.lags, "Number of lag classes N");
-  verb.add_option(
-      "--max-distance", o.max_distance,
-      "Largest distance D; alone it gives W = D/" + std::to_string(VariogramOptions::kDefaultLags) +
-          ". Without --lag and --max-distance the lags suggested by `inspect` are used");
+  verb.add_option("--lag", o.lag, "Lag class width W (classes (iW, (i+1)W])")
+      ->check(positive_number());
+  verb.add_option("--lags", o.lags, "Number of lag classes N")->check(positive_number());
+  verb.add_option("--max-distance", o.max_distance,
+                  "Largest distance D; alone it gives W = D/" +
+                      std::to_string(VariogramOptions::kDefaultLags) +
+                      ". Without --lag and --max-distance the lags suggested by `inspect` are used")
+      ->check(positive_number());
   verb.add_option("--azimuths", o.azimuths,
                   "Directions, degrees clockwise from north, e.g. 0,45,90,135 "
                   "(default: omnidirectional)")
@@ -120,7 +136,8 @@ void add_neighbourhood_options(CLI::App& verb, NeighbourhoodOptions& o) {
                   "Fewest samples: with fewer found the node is left unestimated (nodata)")
       ->default_str(std::to_string(o.min_points));
   verb.add_option("--radius", o.radius,
-                  "Search radius along the model's major axis (default: unlimited)");
+                  "Search radius along the model's major axis (default: unlimited)")
+      ->check(positive_number());
   verb.add_option("--sectors", o.sectors, "1 (none), 4 (2D quadrants) or 8 (3D octants)")
       ->default_str("1");
   verb.add_option("--max-per-sector", o.max_per_sector, "Most samples from one sector (0: no limit)");

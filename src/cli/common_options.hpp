@@ -83,6 +83,11 @@ std::optional<Transform> asked_transform(const KrigingArgs& args);
 /// Prints the log's warnings, then its notes (unless `quiet`).
 void print_log(const StageLog& log, bool quiet);
 
+/// A check for options whose absence means "unlimited" or "suggested": the
+/// value must be a positive finite number, so that 0, a negative number or
+/// nan is refused (naming the option) instead of being taken as "not given".
+CLI::Validator positive_number();
+
 /// Prints each warning as one "warning: ..." line on stderr.
 void print_warnings(const std::vector<std::string>& warnings);
 

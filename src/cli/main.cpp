@@ -5,6 +5,7 @@
 #include <CLI/CLI.hpp>
 
 #include <iostream>
+#include <string>
 #include <vector>
 
 #include "cli/verbs.hpp"
@@ -29,6 +30,20 @@ int main(int argc, char** argv) {
   verbs.push_back(cli::add_krige(app));
   verbs.push_back(cli::add_run(app));
 
+  // A first word that is neither an option nor a verb is a mistyped verb;
+  // CLI11 would only say that a sub-command is required.
+  if (argc > 1 && argv[1][0] != '-') {
+    bool known = false;
+    std::string names;
+    for (const CLI::App* sub : app.get_subcommands({})) {
+      known = known || sub->check_name(argv[1]);
+      names += (names.empty() ? "" : ", ") + sub->get_name();
+    }
+    if (!known) {
+      std::cerr << "error: unknown verb '" << argv[1] << "' (verbs: " << names << "; see --help)\n";
+      return 2;
+    }
+  }
   try {
     app.parse(argc, argv);
   } catch (const CLI::ParseError& e) {

@@ -49,6 +49,8 @@ VerbRunner add_krige(CLI::App& app) {
                    "Outer edges xmin,ymin,xmax,ymax[,zmin,zmax] (default: the samples')")
       ->delimiter(',');
   verb->add_option("--like", a->grid.like, "Template raster giving size, cells and CRS");
+  verb->add_flag("--large-grid", a->grid.large_grid,
+                 "Allow a grid of more than 100 million nodes (refused otherwise)");
   verb->add_option("--mask", a->mask, "Polygons: nodes outside them are nodata");
   verb->add_option("--blocks", a->blocks,
                    "Block models: estimate only the cells holding a point of this list (x,y,z)");
@@ -76,6 +78,11 @@ VerbRunner add_krige(CLI::App& app) {
     if (samples.value_names.size() > 1)
       log.note("kriging the first value column, '" + samples.value_names.front() + "'");
     const bool table = samples.dimension == 3 || is_table(a->output);
+    if (!a->blocks.empty() && !table)
+      throw InputError("krige",
+                       "--blocks applies to block tables (a .csv or .gpkg output, or 3D "
+                       "samples), not to the raster " +
+                           a->output + "; limit a raster with --mask");
     if (!a->mask.empty() && table)
       throw InputError("krige", "--mask applies to rasters; a block table is limited with "
                                 "--blocks (a list of the blocks to estimate)");

@@ -30,7 +30,8 @@ VerbRunner add_variogram(CLI::App& app) {
       ->default_str("semivariance");
   verb->add_option("--surface", args->surface_path,
                    "Also write the 2D variogram surface (GeoTIFF)");
-  verb->add_option("--surface-cell", o.surface_cell, "Surface cell size (default: the lag width)");
+  verb->add_option("--surface-cell", o.surface_cell, "Surface cell size (default: the lag width)")
+      ->check(positive_number());
   verb->add_option("-o,--output", args->output_path,
                    "Write the table to OUT.csv or OUT.json (default: a table on stdout)");
   verb->add_flag("--overwrite", args->overwrite, "Replace existing output files");

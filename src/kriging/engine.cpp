@@ -43,6 +43,20 @@ constexpr std::size_t kFewSamples = 10;
 // many digits, and cross-validation estimates each from the other.
 constexpr double kNearDuplicate = 1e-6;
 constexpr int kMaxThreads = 1024;
+// Largest condition number of a neighbourhood's drift matrix F, with its
+// non-constant columns centred and scaled to unit length (so that units and
+// the offset of the coordinates do not count), above which the drift counts
+// as unresolved and the node is nodata. It is the ratio of the largest to
+// the smallest singular value: 1 for terms that vary independently, about
+// the length-to-width ratio of the samples for a linear drift. Samples on a
+// line whose coordinates were rounded to the millimetre give about 1e5: the
+// drift across the line is then fixed by the rounding, and estimates off
+// the line went to hundreds of times the data's range. Well-spread designs
+// give under about 50 even for a quadratic drift, so the limit leaves a
+// wide margin (our own choice).
+constexpr double kDriftConditionLimit = 1e4;
+// Most drift terms (3D quadratic drift plus an external drift).
+constexpr int kMaxDriftTerms = 11;
 
 std::string fmt(double v) { return format_for_people(v, 10); }
 
@@ -230,6 +244,7 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
   if (!options.is_valid(dimension_, model, &why)) throw InputError(kComponent, why);
   if (!neighbourhood.is_valid(dimension_, &why)) throw InputError(kComponent, why);
   if (column >= samples.values.size()) throw InputError(kComponent, "no such value column");
+  require_moderate_values(samples, column, kComponent);
   if (model.dimension() == 3 && dimension_ == 2)
     throw InputError(kComponent,
                      "the model has 3D anisotropy (dip, plunge or ratio2) but the "
@@ -358,6 +373,20 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
                            std::to_string(qr.rank()) + " of " + std::to_string(drift_terms_) +
                            "): e.g. samples on one line cannot fix a linear drift, or the "
                            "external drift is constant at the samples");
+    // Nearly so (e.g. on a line but for rounded coordinates): every
+    // neighbourhood would be, so the run is refused rather than all nodata.
+    std::vector<std::uint32_t> all(points_.size());
+    for (std::size_t i = 0; i < all.size(); ++i) all[i] = static_cast<std::uint32_t>(i);
+    const double condition = drift_condition(all.data(), all.size());
+    if (condition > kDriftConditionLimit)
+      throw InputError(kComponent,
+                       "the drift terms are nearly indistinguishable on these samples (condition "
+                       "number " +
+                           fmt(condition) + " of the scaled drift matrix, above " +
+                           fmt(kDriftConditionLimit) +
+                           "): e.g. samples on a line but for rounded coordinates; the drift "
+                           "across it would rest on the rounding. Use ordinary kriging, or "
+                           "a drift the samples can fix");
   }
 
   diagnose(samples, used);
@@ -393,6 +422,38 @@ KrigingEngine::~KrigingEngine() = default;
 
 double KrigingEngine::cov(double dx, double dy, double dz) const {
   return model_.has_sill() ? model_.covariance(dx, dy, dz) : -model_.variogram(dx, dy, dz);
+}
+
+double KrigingEngine::drift_condition(const std::uint32_t* nb, std::size_t n) const {
+  const int q = drift_terms_ - 1;  // the columns after the constant
+  if (q < 1) return 1.0;
+  using Gram = Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, 0, kMaxDriftTerms,
+                             kMaxDriftTerms>;  // on the stack: no allocation per system
+  double row[kMaxDriftTerms], mean[kMaxDriftTerms] = {};
+  for (std::size_t i = 0; i < n; ++i) {
+    drift_row(points_[nb[i]], external_.empty() ? 0.0 : external_[nb[i]], row);
+    for (int c = 0; c < q; ++c) mean[c] += row[c + 1];
+  }
+  for (int c = 0; c < q; ++c) mean[c] /= static_cast<double>(n);
+  Gram g = Gram::Zero(q, q);  // centred cross-products, two passes for accuracy
+  for (std::size_t i = 0; i < n; ++i) {
+    drift_row(points_[nb[i]], external_.empty() ? 0.0 : external_[nb[i]], row);
+    for (int c = 0; c < q; ++c) row[c + 1] -= mean[c];
+    for (int c = 0; c < q; ++c)
+      for (int d = 0; d <= c; ++d) g(c, d) += row[c + 1] * row[d + 1];
+  }
+  for (int c = 0; c < q; ++c) {
+    if (!(g(c, c) > 0)) return std::numeric_limits<double>::infinity();  // a constant term
+    for (int d = 0; d < c; ++d) g(c, d) /= std::sqrt(g(c, c) * g(d, d));
+  }
+  for (int c = 0; c < q; ++c) g(c, c) = 1;
+  // Eigenvalues of the correlation matrix C'C are the squared singular
+  // values of the scaled, centred columns C; the constant column, orthogonal
+  // to them and of unit length when scaled, adds the singular value 1,
+  // which lies between the others (their squares average 1).
+  const Eigen::SelfAdjointEigenSolver<Gram> eig(g, Eigen::EigenvaluesOnly);
+  const double lo = eig.eigenvalues()(0), hi = eig.eigenvalues()(q - 1);
+  return lo > 0 ? std::sqrt(hi / lo) : std::numeric_limits<double>::infinity();
 }
 
 void KrigingEngine::drift_row(const Point& c, double external, double* f) const {
@@ -698,7 +759,8 @@ void KrigingEngine::finish_factor(Workspace& ws) const {
   for (std::size_t c = 0; c < p; ++c)
     for (std::size_t r = c; r < p; ++r)
       ws.S[c * p + r] = detail::dot(ws.G.data() + r * ld, ws.G.data() + c * ld, n);
-  if (!detail::cholesky(ws.S.data(), p, 1e-10))
+  if (!detail::cholesky(ws.S.data(), p, 1e-10) ||
+      drift_condition(ws.factored_nb.data(), n) > kDriftConditionLimit)
     ws.factor_status = NodeEstimate::Status::drift_unresolved;
 }
 
@@ -924,6 +986,10 @@ NodeEstimate KrigingEngine::estimate_intrinsic(
     b(static_cast<Eigen::Index>(i)) = ws.k[i];
   }
   for (std::size_t c = 0; c < p; ++c) b(static_cast<Eigen::Index>(n + c)) = ws.f0[c];
+  if (drift_condition(ws.nb.data(), n) > kDriftConditionLimit) {
+    e.status = NodeEstimate::Status::drift_unresolved;
+    return e;
+  }
   const Eigen::PartialPivLU<Eigen::MatrixXd> lu(a);
   if (!(lu.rcond() > kPivotTol)) {
     e.status = NodeEstimate::Status::singular;

@@ -217,7 +217,10 @@ std::vector<std::string> describe(const KrigingSummary& s, const std::string& ta
                        " whose kriging system was singular or badly conditioned "
                        "(near-duplicate samples, or a gaussian model without nugget)" +
                        left);
-  line(s.drift_unresolved, t + " whose neighbours cannot fix the drift" + left);
+  line(s.drift_unresolved, t +
+                               " whose neighbours cannot fix the drift (too few, or nearly on a "
+                               "line or plane for it: condition number over 1e4)" +
+                               left);
   line(s.outside_drift, t + " outside the external drift raster" + left);
   line(s.non_finite, "estimated " + t +
                          " whose estimate, variance or probability is not a "

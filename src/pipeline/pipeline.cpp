@@ -153,6 +153,7 @@ GridSpec plan_grid(const GridOptions& options, const SampleSet& samples, const s
   if (!options.is_valid(&why)) throw InputError("grid", why);
   GridSpec grid = make_grid(options, samples.dimension, sample_extent(samples), samples.crs_wkt);
   log->notes_from(grid.notes);
+  log->warnings_from(grid.warnings);
   if (!mask.empty()) check_mask(mask, grid);
   return grid;
 }

@@ -27,6 +27,38 @@
 namespace sillstone {
 namespace {
 
+// Column names reach JSON outputs, which must be UTF-8: a name that is not
+// valid UTF-8 (a Latin-1 header such as "Zn_\xb5g") is read as Latin-1,
+// whose bytes are the first 256 code points. Valid UTF-8 is kept as it is.
+std::string as_utf8(const std::string& text) {
+  std::size_t i = 0;
+  bool valid = true;
+  while (i < text.size() && valid) {
+    const auto c = static_cast<unsigned char>(text[i]);
+    const std::size_t len = c < 0x80         ? 1
+                            : (c >> 5) == 6  ? 2
+                            : (c >> 4) == 14 ? 3
+                            : (c >> 3) == 30 ? 4
+                                             : 0;
+    valid = len > 0 && i + len <= text.size() && (len != 2 || c >= 0xC2);
+    for (std::size_t k = 1; valid && k < len; ++k)
+      valid = (static_cast<unsigned char>(text[i + k]) >> 6) == 2;
+    i += len;
+  }
+  if (valid) return text;
+  std::string out;
+  for (const char ch : text) {
+    const auto c = static_cast<unsigned char>(ch);
+    if (c < 0x80) {
+      out += ch;
+    } else {
+      out += static_cast<char>(0xC0 | (c >> 6));
+      out += static_cast<char>(0x80 | (c & 0x3F));
+    }
+  }
+  return out;
+}
+
 constexpr const char* kComponent = "samples";
 
 void register_gdal_once() {
@@ -63,6 +95,8 @@ int find_field(OGRFeatureDefn* defn, const std::string& name, const std::string&
                const std::string& option) {
   for (int i = 0; i < defn->GetFieldCount(); ++i)
     if (name == defn->GetFieldDefn(i)->GetNameRef()) return i;
+  for (int i = 0; i < defn->GetFieldCount(); ++i)  // a Latin-1 header named in UTF-8
+    if (name == as_utf8(defn->GetFieldDefn(i)->GetNameRef())) return i;
   const int i = defn->GetFieldIndex(name.c_str());
   if (i < 0)
     throw InputError(kComponent, InputLocation{file, "", name},
@@ -274,7 +308,7 @@ SampleSet load_samples(const SampleOptions& options) {
   set.source = file;
   set.layer = layer->GetName();
   set.dimension = fz >= 0 ? 3 : 2;
-  set.value_names = options.values;
+  for (const auto& name : options.values) set.value_names.push_back(as_utf8(name));
   set.below_detection = options.below_detection;
   set.duplicates = options.duplicates;
   LoadSummary& sum = set.summary;
@@ -545,6 +579,30 @@ void require_variation(const SampleSet& samples, std::size_t column, const std::
                    "all " + std::to_string(count) + " values are equal (" +
                        format_for_people(first, 10) +
                        "): with zero variance there is no spatial variation to fit a model to");
+}
+
+std::size_t first_extreme_value(const SampleSet& samples, std::size_t column) {
+  if (column >= samples.values.size()) return samples.size();
+  const std::vector<double>& v = samples.values[column];
+  for (std::size_t i = 0; i < v.size(); ++i)
+    if (std::abs(v[i]) > kMaxValueMagnitude) return i;  // NaN (missing) compares false
+  return samples.size();
+}
+
+void require_moderate_values(const SampleSet& samples, std::size_t column,
+                             const std::string& component) {
+  const std::size_t i = first_extreme_value(samples, column);
+  if (i >= samples.size()) return;
+  std::ostringstream value;
+  value.precision(10);
+  value << samples.values[column][i];
+  throw InputError(component,
+                   InputLocation{samples.source, i < samples.ids.size() ? samples.ids[i] : "",
+                                 samples.value_names[column]},
+                   value.str() +
+                       " is beyond +-1e100: squares and squared differences of such "
+                       "values overflow double precision; check the units or the "
+                       "value");
 }
 
 }  // namespace sillstone

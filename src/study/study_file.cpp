@@ -44,6 +44,13 @@ class Reader {
     }
     fail(n, key, "expected a number");
   }
+  // A number whose absence means "unlimited", "suggested" or "the default":
+  // 0 or a negative number would otherwise pass for "not given".
+  double positive(const toml::node& n, const std::string& key) const {
+    const double v = number(n, key);
+    if (!(v > 0)) fail(n, key, "expected a positive number (leave the key out for its default)");
+    return v;
+  }
   // A whole number within int's range: a TOML integer, or a float with no
   // fraction (10.0). toml++'s own value<int64_t>() converts any float, and
   // converting one beyond int64's range is undefined behaviour (found by
@@ -159,9 +166,14 @@ Study parse_study(const std::string& text, const std::string& path) {
 
   auto& v = sections["variogram"];
   VariogramOptions& vo = st.variogram;
-  v["lag"] = [&](const toml::node& n, const std::string& k) { vo.lag = r.number(n, k); };
-  v["lags"] = [&](const toml::node& n, const std::string& k) { vo.lags = r.integer(n, k); };
-  v["max_distance"] = [&](const toml::node& n, const std::string& k) { vo.max_distance = r.number(n, k); };
+  v["lag"] = [&](const toml::node& n, const std::string& k) { vo.lag = r.positive(n, k); };
+  v["lags"] = [&](const toml::node& n, const std::string& k) {
+    vo.lags = r.integer(n, k);
+    if (vo.lags < 1) r.fail(n, k, "expected at least 1 (leave the key out for the suggested lags)");
+  };
+  v["max_distance"] = [&](const toml::node& n, const std::string& k) {
+    vo.max_distance = r.positive(n, k);
+  };
   v["statistic"] = [&](const toml::node& n, const std::string& k) { vo.statistic = r.named<VariogramStatistic>(n, k); };
   v["azimuths"] = [&](const toml::node& n, const std::string& k) { vo.azimuths = r.numbers(n, k); };
   v["angle_tolerance"] = [&](const toml::node& n, const std::string& k) { vo.angle_tolerance = r.number(n, k); };
@@ -172,7 +184,9 @@ Study parse_study(const std::string& text, const std::string& path) {
   v["estimator"] = [&](const toml::node& n, const std::string& k) { vo.estimator = r.named<VariogramEstimator>(n, k); };
   v["transform"] = [&](const toml::node& n, const std::string& k) { vo.transform = r.named<Transform>(n, k); };
   v["log_offset"] = [&](const toml::node& n, const std::string& k) { vo.log_offset = r.number(n, k); };
-  v["surface_cell"] = [&](const toml::node& n, const std::string& k) { vo.surface_cell = r.number(n, k); };
+  v["surface_cell"] = [&](const toml::node& n, const std::string& k) {
+    vo.surface_cell = r.positive(n, k);
+  };
 
   auto& m = sections["model"];
   ModelChoice& mc = st.model;
@@ -223,7 +237,7 @@ Study parse_study(const std::string& text, const std::string& path) {
   NeighbourhoodOptions& no = st.neighbourhood;
   nb["max_points"] = [&](const toml::node& n, const std::string& k) { no.max_points = r.integer(n, k); };
   nb["min_points"] = [&](const toml::node& n, const std::string& k) { no.min_points = r.integer(n, k); };
-  nb["radius"] = [&](const toml::node& n, const std::string& k) { no.radius = r.number(n, k); };
+  nb["radius"] = [&](const toml::node& n, const std::string& k) { no.radius = r.positive(n, k); };
   nb["sectors"] = [&](const toml::node& n, const std::string& k) { no.sectors = r.integer(n, k); };
   nb["max_per_sector"] = [&](const toml::node& n, const std::string& k) { no.max_per_sector = r.integer(n, k); };
   nb["global"] = [&](const toml::node& n, const std::string& k) { no.global = r.boolean(n, k); };
@@ -234,6 +248,9 @@ Study parse_study(const std::string& text, const std::string& path) {
   g["like"] = [&](const toml::node& n, const std::string& k) { st.grid.like = resolve(r.string(n, k)); };
   g["mask"] = [&](const toml::node& n, const std::string& k) { st.mask = resolve(r.string(n, k)); };
   g["blocks"] = [&](const toml::node& n, const std::string& k) { st.blocks = resolve(r.string(n, k)); };
+  g["large_grid"] = [&](const toml::node& n, const std::string& k) {
+    st.grid.large_grid = r.boolean(n, k);
+  };
 
   auto& kr = sections["kriging"];
   KrigingOptions& ko = st.kriging;
@@ -257,7 +274,9 @@ Study parse_study(const std::string& text, const std::string& path) {
   auto& rp = sections["report"];
   rp["title"] = [&](const toml::node& n, const std::string& k) { st.report.title = r.string(n, k); };
   rp["units"] = [&](const toml::node& n, const std::string& k) { st.report.units = r.string(n, k); };
-  rp["density"] = [&](const toml::node& n, const std::string& k) { st.report.density = r.number(n, k); };
+  rp["density"] = [&](const toml::node& n, const std::string& k) {
+    st.report.density = r.positive(n, k);
+  };
   rp["cutoffs"] = [&](const toml::node& n, const std::string& k) { st.report.cutoffs = r.numbers(n, k); };
 
   for (const auto& [section, node] : doc) {
@@ -346,8 +365,9 @@ std::string study_settings_json(const Study& st) {
   j["neighbourhood"] = {{"max_points", no.max_points}, {"min_points", no.min_points},
                         {"radius", no.radius}, {"sectors", no.sectors},
                         {"max_per_sector", no.max_per_sector}, {"global", no.global}};
-  j["grid"] = {{"cell", st.grid.cell}, {"extent", st.grid.extent}, {"like", st.grid.like},
-               {"mask", st.mask}, {"blocks", st.blocks}};
+  j["grid"] = {{"cell", st.grid.cell}, {"extent", st.grid.extent},
+               {"like", st.grid.like}, {"mask", st.mask},
+               {"blocks", st.blocks},  {"large_grid", st.grid.large_grid}};
   j["kriging"] = {{"method", name_of(ko.method)}, {"mean", num(ko.mean)},
                   {"drift", name_of(ko.drift)}, {"external_drift", ko.external_drift},
                   {"block", ko.block}, {"discretise", ko.discretise},

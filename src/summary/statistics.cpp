@@ -1,6 +1,8 @@
 // Classical statistics: moments, quantiles, pairwise covariance.
 // Sums use a two-pass algorithm (mean first, then centred sums) for accuracy
-// on data with a large offset, e.g. water levels near 300 m.
+// on data with a large offset, e.g. water levels near 300 m; the mean is a
+// compensated sum, and moments are taken on values scaled by a power of two
+// so that extreme values neither cancel nor overflow.
 #include <algorithm>
 #include <cmath>
 #include <limits>
@@ -19,6 +21,35 @@ double quantile_sorted(const std::vector<double>& sorted, double p) {
   return sorted[lo] + (h - static_cast<double>(lo)) * (sorted[hi] - sorted[lo]);
 }
 
+namespace {
+
+// Neumaier's compensated sum (Neumaier 1974): the rounding error of each
+// addition is carried and added back at the end, so that sums such as
+// 1e300 - 1e300 + 7 + 8 + 1 keep their small terms (16, where a plain sum
+// in sorted order gives 0).
+double compensated_sum(const std::vector<double>& v, double scale) {
+  double sum = 0, carry = 0;
+  for (double x : v) {
+    const double y = x / scale;
+    const double t = sum + y;
+    carry += std::abs(sum) >= std::abs(y) ? (sum - t) + y : (y - t) + sum;
+    sum = t;
+  }
+  return sum + carry;
+}
+
+// A power of two near the largest magnitude: dividing by it is exact (short
+// of underflow in values 2^-1000 times smaller than the largest, which
+// cannot change a sum of them) and keeps squares and cubes of values up to
+// the largest double finite.
+double power_of_two_scale(const std::vector<double>& v) {
+  double big = 0;
+  for (double x : v) big = std::max(big, std::abs(x));
+  return big > 0 ? std::ldexp(1.0, std::ilogb(big)) : 1.0;
+}
+
+}  // namespace
+
 UnivariateStats describe(const std::vector<double>& values) {
   constexpr double nan = std::numeric_limits<double>::quiet_NaN();
   std::vector<double> v;
@@ -30,20 +61,28 @@ UnivariateStats describe(const std::vector<double>& values) {
   if (v.empty()) throw InputError("summary", "no values to describe");
   std::sort(v.begin(), v.end());
   const auto n = static_cast<double>(v.size());
-  double sum = 0;
-  for (double x : v) sum += x;
-  s.mean = sum / n;
-  double m2 = 0, m3 = 0;
+  // Sums on values divided by a power of two `scale`, so that neither the
+  // sum nor the squares overflow: the SD of {1e300, -1e300, 7, 8, 1} is
+  // 7.07e299, finite, though its variance is not.
+  const double scale = power_of_two_scale(v);
+  const double mean_scaled = compensated_sum(v, scale) / n;
+  s.mean = mean_scaled * scale;
+  // Centred moments of the scaled values, two-pass with the correction of
+  // Chan, Golub & LeVeque (1983): subtracting (sum d)^2 / n removes the
+  // error of a mean that was rounded (values near 1e16 are 2 apart).
+  double m1 = 0, m2 = 0, m3 = 0;
   for (double x : v) {
-    const double d = x - s.mean;
+    const double d = x / scale - mean_scaled;
+    m1 += d;
     m2 += d * d;
     m3 += d * d * d;
   }
-  s.sd = v.size() > 1 ? std::sqrt(m2 / (n - 1)) : nan;
+  m2 = std::max(0.0, m2 - m1 * m1 / n);
+  s.sd = v.size() > 1 ? std::sqrt(m2 / (n - 1)) * scale : nan;
   s.cv = s.mean != 0 && v.size() > 1 ? s.sd / s.mean : nan;
   m2 /= n;
   m3 /= n;
-  s.skewness = m2 > 0 ? m3 / std::pow(m2, 1.5) : nan;
+  s.skewness = m2 > 0 ? m3 / std::pow(m2, 1.5) : nan;  // scale-free
   s.min = v.front();
   s.max = v.back();
   s.q1 = quantile_sorted(v, 0.25);

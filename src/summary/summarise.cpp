@@ -40,6 +40,15 @@ DataSummary summarise(const SampleSet& samples, const SummaryOptions& options) {
       throw InputError("summary", samples.source + ": column '" + samples.value_names[v] +
                                       "' has no usable value");
     s.stats.push_back(describe(column));
+    if (const std::size_t i = first_extreme_value(samples, v); i < samples.size()) {
+      std::ostringstream value;
+      value << column[i];
+      s.warnings.push_back(samples.source + ", " + samples.ids[i] + ", column '" +
+                           samples.value_names[v] + "': " + value.str() +
+                           " is beyond +-1e100; variogram, fit, crossval, krige and run refuse "
+                           "such values (their squares overflow); the statistics here are "
+                           "computed on rescaled values");
+    }
     s.declustered.push_back(
         decluster(samples.points, column, samples.dimension, options.declustering));
     const auto& st = s.stats.back();

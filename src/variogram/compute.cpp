@@ -388,6 +388,7 @@ EmpiricalVariogram compute_variogram(const SampleSet& samples, const VariogramOp
   if (column >= samples.values.size())
     throw InputError(kComponent, samples.source + ": the samples have no value column");
   v.value = samples.value_names[column];
+  require_moderate_values(samples, column, kComponent);
 
   // Resolved lag classes.
   v.options = options;

@@ -17,7 +17,8 @@ Each file in cases/ is one case:
     ...
 
 A file section's header may end with options in brackets: `crlf` writes the
-file with Windows line endings, `bom` starts it with a UTF-8 byte-order mark.
+file with Windows line endings, `bom` starts it with a UTF-8 byte-order mark,
+`latin1` writes it in Latin-1 instead of UTF-8.
 `@name` in args is replaced by the path of the file written from the
 `--- name` section (in a fresh temporary folder, which is also the working
 directory); `@dir` by that folder. `{demo}` is the demo-sites folder.
@@ -48,7 +49,7 @@ def parse(path):
                 if m:
                     header = m.group(1)
                     options = {o.strip() for o in m.group(2).split(",") if o.strip()}
-                    unknown = options - {"crlf", "bom"}
+                    unknown = options - {"crlf", "bom", "latin1"}
                     if unknown:
                         raise ValueError(f"{path}: unknown file option(s) {sorted(unknown)}")
                 current = header
@@ -79,7 +80,7 @@ def run(exe, path):
             text = "".join(lines)
             if "crlf" in options:
                 text = text.replace("\n", "\r\n")
-            data = text.encode("utf-8")
+            data = text.encode("latin-1" if "latin1" in options else "utf-8")
             if "bom" in options:
                 data = b"\xef\xbb\xbf" + data
             with open(os.path.join(tmp, name), "wb") as f:

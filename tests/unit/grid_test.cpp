@@ -26,7 +26,9 @@ TEST_CASE("nodes sit at cell centres, rows run north to south", "[grid]") {
   CHECK(gt[0] == 1000.0);
   CHECK(gt[3] == 2050.0);
   CHECK(gt[5] == -10.0);
-  CHECK(g.notes.empty());
+  // One note, the size: 10 x 5 nodes of 8 bytes (a double) per band.
+  REQUIRE(g.notes.size() == 1);
+  CHECK(g.notes[0] == "the grid has 10 x 5 = 50 nodes, 400 bytes per output band uncompressed");
 }
 
 TEST_CASE("an extent that is not whole cells is widened and said", "[grid]") {
@@ -38,7 +40,8 @@ TEST_CASE("an extent that is not whole cells is widened and said", "[grid]") {
   CHECK(g.ny == 3);  // 60 m, widened south
   CHECK(g.xmax() == 120.0);
   CHECK(g.ymin() == -10.0);
-  REQUIRE(g.notes.size() == 1);
+  REQUIRE(g.notes.size() == 2);  // the widening, then the size
+  CHECK_THAT(g.notes[0], Catch::Contains("widened"));
 }
 
 TEST_CASE("bad grids are refused before any work", "[grid]") {
@@ -52,6 +55,27 @@ TEST_CASE("bad grids are refused before any work", "[grid]") {
   o.cell = {0.001};
   o.extent = {0, 0, 1e6, 1e6};
   CHECK_THROWS_WITH(make_grid(o, 2, {}, "", 1'000'000'000LL), Catch::Contains("nodes"));
+}
+
+TEST_CASE(
+    "grids over the large-grid limit need large_grid, cells wider than the extent are refused",
+    "[grid]") {
+  GridOptions o;
+  o.cell = {0.01};
+  o.extent = {0, 0, 100, 1000};  // 10000 x 100000 nodes, over kLargeGridNodes (1e8)
+  CHECK_THROWS_WITH(make_grid(o, 2, {}, ""), Catch::Contains("without --large-grid"));
+  o.large_grid = true;
+  const GridSpec g = make_grid(o, 2, {}, "");  // nothing is allocated by make_grid
+  CHECK(g.nodes() == 10000LL * 100000LL);
+  o.cell = {100.5};  // wider than the 100 m extent
+  CHECK_THROWS_WITH(make_grid(o, 2, {}, ""), Catch::Contains("larger than the extent's width"));
+  o.cell = {1e300};
+  CHECK_THROWS_WITH(make_grid(o, 2, {}, ""), Catch::Contains("--cell 1e+300"));
+  o.cell = {100, 100, 5};  // a third size on 2D data
+  CHECK_THROWS_WITH(make_grid(o, 2, {}, ""), Catch::Contains("samples are 2D"));
+  o.cell = {100};
+  o.extent = {0, 0, 100, 100, 0, 10};
+  CHECK_THROWS_WITH(make_grid(o, 2, {}, ""), Catch::Contains("zmin,zmax"));
 }
 
 TEST_CASE("a raster is written, and reads back with GDAL", "[grid]") {
