@@ -15,35 +15,35 @@
 namespace sillstone {
 
 struct CrossValidationOptions {
-  int folds = 0;               ///< 0: leave-one-out; k >= 2: k folds
+  int folds = 0;                  ///< 0: leave-one-out; k >= 2: k folds
   std::uint64_t seed = 20261201;  ///< fold assignment (a fixed shuffle), for k-fold
   bool is_valid(std::size_t samples, std::string* why) const;
 };
 
 /// One sample's row of the cross-validation table (CSV layout of PRODUCT.md).
 struct CrossValidationRow {
-  std::string id;              ///< the sample's row: CSV line number or feature id
+  std::string id;  ///< the sample's row: CSV line number or feature id
   Point point;
-  double observed = 0;         ///< as measured (after non-detect substitution)
-  double estimate = 0;         ///< original scale (back-transformed with --transform log)
-  double variance = 0;         ///< kriging variance, kriged scale
-  double error = 0;            ///< estimate - observed
+  double observed = 0;            ///< as measured (after non-detect substitution)
+  double estimate = 0;            ///< original scale (back-transformed with --transform log)
+  double variance = 0;            ///< kriging variance, kriged scale
+  double error = 0;               ///< estimate - observed
   double standardised_error = 0;  ///< (estimate - observed) / sqrt(variance), on the kriged scale
   int neighbours = 0;
-  bool ok = false;             ///< false: the sample could not be estimated (see status)
+  bool ok = false;  ///< false: the sample could not be estimated (see status)
   NodeEstimate::Status status = NodeEstimate::Status::ok;
 };
 
 struct CrossValidationSummary {
   std::size_t samples = 0, estimated = 0;
-  double mean_error = 0;                  ///< ME, ideally 0
-  double mean_absolute_error = 0;         ///< MAE
-  double rmse = 0;                        ///< root mean squared error
-  double mean_standardised_error = 0;     ///< MSE, ideally 0 (over samples with variance > 0)
+  double mean_error = 0;                       ///< ME, ideally 0
+  double mean_absolute_error = 0;              ///< MAE
+  double rmse = 0;                             ///< root mean squared error
+  double mean_standardised_error = 0;          ///< MSE, ideally 0 (over samples with variance > 0)
   double mean_squared_standardised_error = 0;  ///< MSSE, ideally 1 (likewise)
-  double correlation = 0;                 ///< Pearson r of observed and estimated (NaN: undefined)
-  std::size_t zero_variance = 0;          ///< estimated samples with variance 0: no standardised error
-  int folds = 0;                          ///< 0: leave-one-out
+  double correlation = 0;         ///< Pearson r of observed and estimated (NaN: undefined)
+  std::size_t zero_variance = 0;  ///< estimated samples with variance 0: no standardised error
+  int folds = 0;                  ///< 0: leave-one-out
   KrigingSummary counts;
 };
 

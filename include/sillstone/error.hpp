@@ -26,8 +26,7 @@ class InputError : public std::runtime_error {
  public:
   /// `component` names the part of sillstone that refused ("samples", "model", ...).
   InputError(const std::string& component, const std::string& message);
-  InputError(const std::string& component, const InputLocation& where,
-             const std::string& message);
+  InputError(const std::string& component, const InputLocation& where, const std::string& message);
 
   const std::string& component() const noexcept { return component_; }
 

@@ -150,10 +150,10 @@ struct FitSummary {
 /// A fitted model with its figures of merit.
 struct FitResult {
   CovarianceModel model;
-  std::string source;  ///< what the variogram was computed from (or the table's path)
-  std::string value;   ///< the value column, when known
-  ValueTransform transform;  ///< of the variogram's values
-  std::vector<Family> structures;         ///< as requested (the model's order)
+  std::string source;              ///< what the variogram was computed from (or the table's path)
+  std::string value;               ///< the value column, when known
+  ValueTransform transform;        ///< of the variogram's values
+  std::vector<Family> structures;  ///< as requested (the model's order)
   FitWeights weights = FitWeights::cressie;
   double objective = 0;  ///< S = sum w_i (gamma_hat_i - gamma(h_i))^2, final weights
   /// Akaike-type criterion on the weighted residuals: n ln(S'/n) + 2 p, with

@@ -15,10 +15,11 @@ namespace sillstone {
 
 /// How the user described the grid.
 struct GridOptions {
-  std::vector<double> cell;    ///< dx[,dy[,dz]] (dy = dx and dz = dx when left out)
-  std::vector<double> extent;  ///< xmin,ymin,xmax,ymax[,zmin,zmax]; empty: from `like` or the samples
-  std::string like;            ///< template raster: its size, geotransform and CRS
-  bool large_grid = false;     ///< allow more than kLargeGridNodes nodes (--large-grid)
+  std::vector<double> cell;  ///< dx[,dy[,dz]] (dy = dx and dz = dx when left out)
+  std::vector<double>
+      extent;               ///< xmin,ymin,xmax,ymax[,zmin,zmax]; empty: from `like` or the samples
+  std::string like;         ///< template raster: its size, geotransform and CRS
+  bool large_grid = false;  ///< allow more than kLargeGridNodes nodes (--large-grid)
   bool is_valid(std::string* why) const;
 };
 

@@ -42,16 +42,16 @@ enum class KrigingMethod : int { simple, ordinary, universal };
 enum class Drift : int { none, linear, quadratic };
 
 struct KrigingOptions {
-  KrigingMethod method = KrigingMethod::ordinary;  ///< --method
+  KrigingMethod method = KrigingMethod::ordinary;          ///< --method
   double mean = std::numeric_limits<double>::quiet_NaN();  ///< simple kriging mean on the kriged
                                                            ///< scale; NaN: declustered sample mean
-  Drift drift = Drift::none;     ///< --drift (universal kriging: linear when not given)
-  std::string external_drift;    ///< --external-drift RASTER: its value is a drift term
-  std::vector<double> block;     ///< --block DX,DY[,DZ]; empty: point kriging
-  std::vector<int> discretise;   ///< --discretise NX,NY[,NZ]; default 4 per axis
-  ValueTransform transform;  ///< the model's (kind none or log): kriged on forward(value)
+  Drift drift = Drift::none;    ///< --drift (universal kriging: linear when not given)
+  std::string external_drift;   ///< --external-drift RASTER: its value is a drift term
+  std::vector<double> block;    ///< --block DX,DY[,DZ]; empty: point kriging
+  std::vector<int> discretise;  ///< --discretise NX,NY[,NZ]; default 4 per axis
+  ValueTransform transform;     ///< the model's (kind none or log): kriged on forward(value)
   double threshold = std::numeric_limits<double>::quiet_NaN();  ///< --threshold T (original scale)
-  int threads = 0;               ///< --threads; 0: every core
+  int threads = 0;                                              ///< --threads; 0: every core
   /// Checks the options against the data dimension and the model.
   bool is_valid(int dimension, const CovarianceModel& model, std::string* why) const;
 };
@@ -63,8 +63,8 @@ struct NodeEstimate {
     too_few_neighbours,  ///< fewer than --min-points within the search
     singular,            ///< the covariance matrix is singular or badly conditioned
                          ///< (estimated reciprocal condition number below 1e-12)
-    drift_unresolved,    ///< the neighbours cannot fix the drift (e.g. collinear for a linear drift)
-    outside_drift,       ///< the external drift raster has no value at the target
+    drift_unresolved,  ///< the neighbours cannot fix the drift (e.g. collinear for a linear drift)
+    outside_drift,     ///< the external drift raster has no value at the target
   };
   Status status = Status::too_few_neighbours;
   int neighbours = 0;
@@ -80,10 +80,13 @@ struct NodeEstimate {
 /// Values written to outputs, on the original scale.
 struct NodeOutput {
   double estimate = std::numeric_limits<double>::quiet_NaN();
-  double variance = std::numeric_limits<double>::quiet_NaN();  ///< kriging variance (log scale with --transform log)
+  double variance = std::numeric_limits<double>::quiet_NaN();  ///< kriging variance (log scale with
+                                                               ///< --transform log)
   double probability = std::numeric_limits<double>::quiet_NaN();  ///< P(Z > threshold)
-  double slope = std::numeric_limits<double>::quiet_NaN();       ///< slope of regression lambda'k / lambda'K lambda
-  double efficiency = std::numeric_limits<double>::quiet_NaN();  ///< kriging efficiency (C00 - sigma^2) / C00
+  double slope =
+      std::numeric_limits<double>::quiet_NaN();  ///< slope of regression lambda'k / lambda'K lambda
+  double efficiency =
+      std::numeric_limits<double>::quiet_NaN();  ///< kriging efficiency (C00 - sigma^2) / C00
 };
 
 namespace detail {
@@ -134,7 +137,7 @@ class KrigingEngine {
     std::vector<double> k, y, Gy, f0, r, lambda, drift;
     std::vector<double> lag_x, lag_y, lag_z, block_cov;  // lags for batched covariances
     std::vector<double> column, extra;                   // scratch of the updates
-    std::vector<double> cond_l, cond_x, cond_z;           // condition estimate scratch
+    std::vector<double> cond_l, cond_x, cond_z;          // condition estimate scratch
   };
   std::unique_ptr<Workspace> make_workspace() const;
 
@@ -173,15 +176,15 @@ class KrigingEngine {
   CovarianceModel model_;
   KrigingOptions options_;
   int dimension_;
-  Point origin_;                   // coordinates are centred on it internally
-  double drift_scale_ = 1;         // drift coordinates are (x - origin) / drift_scale
-  std::vector<Point> points_;      // centred sample coordinates
-  std::vector<double> values_;     // kriged-scale values
-  std::vector<double> external_;   // external drift at the samples
+  Point origin_;                       // coordinates are centred on it internally
+  double drift_scale_ = 1;             // drift coordinates are (x - origin) / drift_scale
+  std::vector<Point> points_;          // centred sample coordinates
+  std::vector<double> values_;         // kriged-scale values
+  std::vector<double> external_;       // external drift at the samples
   std::vector<Point> discretisation_;  // block offsets from the centre (one point: {0,0,0})
-  double target_variance_ = 0;     // C00
+  double target_variance_ = 0;         // C00
   double mean_ = std::numeric_limits<double>::quiet_NaN();
-  int drift_terms_ = 0;            // p: columns of F
+  int drift_terms_ = 0;  // p: columns of F
   std::unique_ptr<NeighbourSearch> search_;
   std::unique_ptr<detail::CovarianceKernel> kernel_;  // batched covariances (models with a sill)
   std::unique_ptr<External> external_raster_;
@@ -237,10 +240,10 @@ using Progress = std::function<void(double)>;
 /// A 2D raster output of `krige` (layout of shared/PRODUCT.md: band 1
 /// estimate, band 2 variance, band 3 probability_above_T with a threshold).
 struct RasterTarget {
-  std::string path;           ///< final path; written under a temporary name, renamed when done
-  std::string format;         ///< GDAL driver; empty: from the extension (GeoTIFF by default)
+  std::string path;    ///< final path; written under a temporary name, renamed when done
+  std::string format;  ///< GDAL driver; empty: from the extension (GeoTIFF by default)
   bool overwrite = false;
-  std::string mask;           ///< polygons (any OGR source): nodes outside them are nodata
+  std::string mask;  ///< polygons (any OGR source): nodes outside them are nodata
   std::vector<std::pair<std::string, std::string>> metadata;  ///< run metadata items
   double nodata = -9999.0;
 };
@@ -301,6 +304,7 @@ std::string probability_name(double threshold);
 /// One line per count that is not zero, for the user (nodes masked, left
 /// unestimated and why). `target` names what was kriged: "node" (grids,
 /// left as nodata) or "sample" (cross-validation, left unestimated).
-std::vector<std::string> describe(const KrigingSummary& summary, const std::string& target = "node");
+std::vector<std::string> describe(const KrigingSummary& summary,
+                                  const std::string& target = "node");
 
 }  // namespace sillstone

@@ -25,10 +25,10 @@
 namespace sillstone {
 
 struct NeighbourhoodOptions {
-  int max_points = 24;     ///< most samples per system (--max-points)
-  int min_points = 3;      ///< fewer found: the node is left unestimated and counted (--min-points)
-  double radius = 0;       ///< search radius along the major axis, CRS units; 0 = unlimited (--radius)
-  int sectors = 1;         ///< 1 (none), 4 (2D quadrants) or 8 (3D octants) (--sectors)
+  int max_points = 24;  ///< most samples per system (--max-points)
+  int min_points = 3;   ///< fewer found: the node is left unestimated and counted (--min-points)
+  double radius = 0;    ///< search radius along the major axis, CRS units; 0 = unlimited (--radius)
+  int sectors = 1;      ///< 1 (none), 4 (2D quadrants) or 8 (3D octants) (--sectors)
   int max_per_sector = 0;  ///< most samples from one sector; 0 = no limit (--max-per-sector)
   bool global = false;     ///< every sample in every system (small data sets only)
   /// Checks the options for data of `dimension` (2 or 3).

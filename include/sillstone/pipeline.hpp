@@ -63,16 +63,14 @@ EmpiricalVariogram variogram_stage(const SampleSet& samples, VariogramOptions op
 /// agree with `asked` when given; a CSV of an earlier version that does not
 /// record it is refused unless `asked` says what it holds. Throws InputError.
 EmpiricalVariogram read_variogram_stage(const std::string& path,
-                                        const std::optional<ValueTransform>& asked,
-                                        StageLog* log);
+                                        const std::optional<ValueTransform>& asked, StageLog* log);
 
 /// The kriging options with the model's transform: a model that records its
 /// transform is kriged on it, and `asked` (from `--transform` or a study's
 /// [kriging] transform) must name the same kind (InputError naming both
 /// otherwise); a SPEC string or an older model.json is taken as `asked`, or
 /// none. Says in a note which transform is used when it is not none.
-KrigingOptions kriging_stage_options(KrigingOptions options,
-                                     const std::optional<Transform>& asked,
+KrigingOptions kriging_stage_options(KrigingOptions options, const std::optional<Transform>& asked,
                                      const ModelFile& model, StageLog* log);
 
 /// The grid of a map: `options`, or around the samples when no extent or

@@ -16,10 +16,10 @@
 namespace sillstone {
 
 struct RasterLayout {
-  GridSpec grid;                              ///< 2D grid: size, geotransform, CRS
-  std::vector<std::string> bands;             ///< band descriptions, e.g. "estimate", "variance"
-  double nodata = -9999.0;                    ///< written for masked or unestimable cells
-  std::string format = "GTiff";               ///< a GDAL raster driver that supports Create()
+  GridSpec grid;                   ///< 2D grid: size, geotransform, CRS
+  std::vector<std::string> bands;  ///< band descriptions, e.g. "estimate", "variance"
+  double nodata = -9999.0;         ///< written for masked or unestimable cells
+  std::string format = "GTiff";    ///< a GDAL raster driver that supports Create()
   std::vector<std::pair<std::string, std::string>> metadata;  ///< dataset metadata items
   /// Threads GDAL may use to compress GeoTIFF tiles (its NUM_THREADS);
   /// the file is the same byte for byte for any count.

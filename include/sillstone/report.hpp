@@ -42,7 +42,7 @@ struct ReportInput {
   const DataSummary* summary = nullptr;
   const EmpiricalVariogram* variogram = nullptr;
   const ModelFile* model = nullptr;
-  std::string fit_table;                       ///< the fit's table as text; empty when given
+  std::string fit_table;                            ///< the fit's table as text; empty when given
   const CrossValidationResult* crossval = nullptr;  ///< null when skipped
   /// Other kriging set-ups compared by cross-validation: (label, summary).
   std::vector<std::pair<std::string, CrossValidationSummary>> alternatives;

@@ -60,34 +60,34 @@ struct Point {
 
 /// What the reader did, for the user and for the report.
 struct LoadSummary {
-  std::size_t rows_read = 0;            ///< features that passed the attribute filter
-  std::size_t rows_kept = 0;            ///< rows in the SampleSet before merging duplicates
-  std::size_t dropped_no_coordinate = 0;  ///< blank/missing coordinate or empty geometry
-  std::size_t dropped_no_value = 0;     ///< every value column missing (blank, NA, N/A, -)
-  std::vector<std::size_t> missing;     ///< per value column: missing markers seen
-  std::vector<std::size_t> below_detection;  ///< per value column: "<DL" values seen
-  std::size_t duplicate_locations = 0;  ///< locations holding more than one row
-  std::size_t duplicate_rows_removed = 0;  ///< rows merged away by the duplicate policy
+  std::size_t rows_read = 0;                    ///< features that passed the attribute filter
+  std::size_t rows_kept = 0;                    ///< rows in the SampleSet before merging duplicates
+  std::size_t dropped_no_coordinate = 0;        ///< blank/missing coordinate or empty geometry
+  std::size_t dropped_no_value = 0;             ///< every value column missing (blank, NA, N/A, -)
+  std::vector<std::size_t> missing;             ///< per value column: missing markers seen
+  std::vector<std::size_t> below_detection;     ///< per value column: "<DL" values seen
+  std::size_t duplicate_locations = 0;          ///< locations holding more than one row
+  std::size_t duplicate_rows_removed = 0;       ///< rows merged away by the duplicate policy
   std::vector<std::string> duplicate_examples;  ///< up to 5 "line 12 = line 40" notes, each
                                                 ///< naming up to 5 rows and counting the rest
-  std::vector<std::string> warnings;    ///< each one sentence, without "warning:"
+  std::vector<std::string> warnings;            ///< each one sentence, without "warning:"
 };
 
 /// Samples ready for analysis. Coordinates are in the analysis CRS (after
 /// --to-crs), absolute (not centred). Values are NaN where missing.
 struct SampleSet {
-  std::string source;               ///< path as given
-  std::string layer;                ///< layer actually read
-  int dimension = 2;                ///< 2 or 3
-  std::vector<Point> points;        ///< one per sample
-  std::vector<std::string> ids;     ///< "line 14" (CSV) or "feature 7"; first row of a merged group
-  std::vector<std::int64_t> row_numbers;  ///< the CSV line number or feature id, as a number
-  std::vector<std::string> value_names;   ///< as requested
+  std::string source;            ///< path as given
+  std::string layer;             ///< layer actually read
+  int dimension = 2;             ///< 2 or 3
+  std::vector<Point> points;     ///< one per sample
+  std::vector<std::string> ids;  ///< "line 14" (CSV) or "feature 7"; first row of a merged group
+  std::vector<std::int64_t> row_numbers;    ///< the CSV line number or feature id, as a number
+  std::vector<std::string> value_names;     ///< as requested
   std::vector<std::vector<double>> values;  ///< values[column][sample], NaN = missing
   std::vector<std::vector<unsigned char>> censored;  ///< 1 where the value was "<DL"
-  std::string crs_wkt;              ///< empty: local coordinates, no CRS
-  std::string crs_name;             ///< human-readable CRS name, e.g. "WGS 84 / UTM zone 30N"
-  std::string crs_authority;        ///< e.g. "EPSG:32630" when known
+  std::string crs_wkt;                               ///< empty: local coordinates, no CRS
+  std::string crs_name;       ///< human-readable CRS name, e.g. "WGS 84 / UTM zone 30N"
+  std::string crs_authority;  ///< e.g. "EPSG:32630" when known
   BelowDetection below_detection = BelowDetection::half;
   DuplicatePolicy duplicates = DuplicatePolicy::average;
   LoadSummary summary;

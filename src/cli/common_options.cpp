@@ -38,14 +38,13 @@ void add_sample_options(CLI::App& verb, SampleArgs& a, const std::string& input_
   verb.add_option("--below-detection", a.below_detection,
                   "Values written <DL become: half (DL/2), limit (DL), zero, drop")
       ->default_str("half");
-  verb.add_option("--duplicates", a.duplicates,
-                  "Samples at one location: average, first, error")
+  verb.add_option("--duplicates", a.duplicates, "Samples at one location: average, first, error")
       ->default_str("average");
 }
 
 std::vector<std::string> sample_option_names() {
-  return {"--layer", "--value", "--x",   "--y", "--z", "--where", "--crs", "--to-crs",
-          "--below-detection", "--duplicates"};
+  return {"--layer",  "--value",           "--x",         "--y", "--z", "--where", "--crs",
+          "--to-crs", "--below-detection", "--duplicates"};
 }
 
 SampleOptions resolve(const SampleArgs& a) {
@@ -95,18 +94,17 @@ void add_variogram_options(CLI::App& verb, VariogramArgs& args) {
                   "3D: largest vertical offset from a direction (default: none)");
   verb.add_option("--estimator", args.estimator, "matheron or cressie-hawkins (robust)")
       ->default_str("matheron");
-  verb.add_option("--transform", args.transform, "none, log or normal-score")
-      ->default_str("none");
+  verb.add_option("--transform", args.transform, "none, log or normal-score")->default_str("none");
   verb.add_option("--log-offset", o.log_offset, "C in log(value + C) for --transform log");
   verb.add_option("--threads", o.threads, "Threads (0: every core; results do not depend on it)")
       ->default_str("0");
 }
 
 std::vector<std::string> variogram_option_names() {
-  return {"--lag",       "--lags",          "--max-distance",       "--azimuths",
-          "--angle-tolerance", "--bandwidth", "--dips",            "--dip-tolerance",
-          "--vertical-bandwidth", "--estimator", "--transform",   "--log-offset",
-          "--threads"};
+  return {
+      "--lag",       "--lags",       "--max-distance",  "--azimuths",           "--angle-tolerance",
+      "--bandwidth", "--dips",       "--dip-tolerance", "--vertical-bandwidth", "--estimator",
+      "--transform", "--log-offset", "--threads"};
 }
 
 VariogramOptions resolve(const VariogramArgs& args) {
@@ -140,7 +138,8 @@ void add_neighbourhood_options(CLI::App& verb, NeighbourhoodOptions& o) {
       ->check(positive_number());
   verb.add_option("--sectors", o.sectors, "1 (none), 4 (2D quadrants) or 8 (3D octants)")
       ->default_str("1");
-  verb.add_option("--max-per-sector", o.max_per_sector, "Most samples from one sector (0: no limit)");
+  verb.add_option("--max-per-sector", o.max_per_sector,
+                  "Most samples from one sector (0: no limit)");
   verb.add_flag("--global", o.global, "Every sample in every system (small data sets)");
 }
 
@@ -161,8 +160,7 @@ void add_kriging_options(CLI::App& verb, KrigingArgs& a) {
   verb.add_option("--transform", a.transform,
                   "none or log; a model.json says its own transform, and this must agree "
                   "(default: the model's, or none for a SPEC)");
-  verb.add_option("--threshold", o.threshold,
-                  "Also give the probability of exceeding this value");
+  verb.add_option("--threshold", o.threshold, "Also give the probability of exceeding this value");
   verb.add_option("--threads", o.threads, "Threads (0: every core)")->default_str("0");
 }
 

@@ -47,7 +47,8 @@ VerbRunner add_crossval(CLI::App& app) {
     print_log(log, a->out.quiet);
     if (!a->output.empty())
       write_text_output(a->output, crossval_csv(result, samples.dimension), a->overwrite);
-    std::cout << (a->out.json ? crossval_summary_json(result) + "\n" : crossval_summary_text(result));
+    std::cout << (a->out.json ? crossval_summary_json(result) + "\n"
+                              : crossval_summary_text(result));
     return 0;
   };
 }

@@ -15,8 +15,8 @@ VerbRunner add_inspect(CLI::App& app) {
     SummaryOptions summary;
   };
   auto args = std::make_shared<Args>();
-  CLI::App* verb = app.add_subcommand(
-      "inspect", "Data checks and summary statistics of the samples");
+  CLI::App* verb =
+      app.add_subcommand("inspect", "Data checks and summary statistics of the samples");
   add_sample_options(*verb, args->samples);
   verb->add_option("--decluster-cell", args->summary.declustering.cell,
                    "Cell size for the declustered mean (default: scan sizes and choose)");

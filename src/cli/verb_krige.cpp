@@ -84,8 +84,9 @@ VerbRunner add_krige(CLI::App& app) {
                        "samples), not to the raster " +
                            a->output + "; limit a raster with --mask");
     if (!a->mask.empty() && table)
-      throw InputError("krige", "--mask applies to rasters; a block table is limited with "
-                                "--blocks (a list of the blocks to estimate)");
+      throw InputError("krige",
+                       "--mask applies to rasters; a block table is limited with "
+                       "--blocks (a list of the blocks to estimate)");
     const GridSpec grid = plan_grid(a->grid, samples, a->mask, &log);
     const std::size_t extra = std::isnan(options.threshold) ? 0 : 1;
     check_output_size(grid, table ? 5 + extra : 2 + extra, table, a->output);

@@ -18,7 +18,8 @@ VerbRunner add_run(CLI::App& app) {
     OutputArgs out;
   };
   auto a = std::make_shared<Args>();
-  CLI::App* verb = app.add_subcommand("run", "The whole pipeline from a study file into a run folder");
+  CLI::App* verb =
+      app.add_subcommand("run", "The whole pipeline from a study file into a run folder");
   verb->add_option("STUDY", a->study, "Study file (TOML; see docs/run.md)")->required();
   verb->add_option("-o,--output", a->output, "Run folder (default: [output] dir of the study)");
   verb->add_flag("--overwrite", a->overwrite, "Replace outputs already in the run folder");

@@ -20,8 +20,8 @@ inline std::string capped_join(const std::vector<std::string>& shown, std::size_
   std::string out;
   for (const auto& s : shown) out += (out.empty() ? "" : separator) + s;
   if (total > shown.size())
-    out += " and " + std::to_string(total - shown.size()) + " more" + (noun.empty() ? "" : " ") +
-           noun;
+    out +=
+        " and " + std::to_string(total - shown.size()) + " more" + (noun.empty() ? "" : " ") + noun;
   return out;
 }
 
@@ -31,8 +31,8 @@ inline std::vector<std::string> capped(const std::vector<std::string>& items, st
                                        const std::string& noun) {
   if (items.size() <= keep) return items;
   std::vector<std::string> out(items.begin(), items.begin() + static_cast<std::ptrdiff_t>(keep));
-  out.push_back("and " + std::to_string(items.size() - keep) + " more" +
-                (noun.empty() ? "" : " ") + noun);
+  out.push_back("and " + std::to_string(items.size() - keep) + " more" + (noun.empty() ? "" : " ") +
+                noun);
   return out;
 }
 

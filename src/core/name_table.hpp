@@ -52,7 +52,7 @@ Enum parse_name(std::string_view text, std::string_view what) {
 }  // namespace sillstone
 
 /// Instantiates name_of, names_of and parse_name for `E` (after its table).
-#define SILLSTONE_NAMED_ENUM(E)                                \
-  template std::string_view name_of<E>(E);                     \
-  template std::vector<std::string> names_of<E>();             \
+#define SILLSTONE_NAMED_ENUM(E)                    \
+  template std::string_view name_of<E>(E);         \
+  template std::vector<std::string> names_of<E>(); \
   template E parse_name<E>(std::string_view, std::string_view);

@@ -49,19 +49,23 @@ std::string label(std::size_t i, Family f) {
 // --- The classes -------------------------------------------------------------
 
 // "FILE: " naming the variogram's source in messages, when it is known.
-std::string source_of(const EmpiricalVariogram& v) { return v.source.empty() ? "" : v.source + ": "; }
+std::string source_of(const EmpiricalVariogram& v) {
+  return v.source.empty() ? "" : v.source + ": ";
+}
 
 std::vector<ClassData> usable_classes(const EmpiricalVariogram& v) {
   if (v.options.statistic != VariogramStatistic::semivariance)
     throw InputError(kComponent,
-                     source_of(v) + "the variogram holds the " + std::string(name_of(v.options.statistic)) +
+                     source_of(v) + "the variogram holds the " +
+                         std::string(name_of(v.options.statistic)) +
                          "; fit needs semivariance (variogram --statistic semivariance)");
   std::vector<ClassData> out;
   for (const VariogramRow& r : v.rows) {
     if (r.pairs == 0 || !std::isfinite(r.value)) continue;
     if (r.value < 0)
-      throw InputError(kComponent, source_of(v) + "the class (" + num(r.lag_from) + ", " + num(r.lag_to) +
-                                       "] has a negative semivariance (" + num(r.value) + ")");
+      throw InputError(kComponent, source_of(v) + "the class (" + num(r.lag_from) + ", " +
+                                       num(r.lag_to) + "] has a negative semivariance (" +
+                                       num(r.value) + ")");
     ClassData c;
     if (r.azimuth) c.azimuth = *r.azimuth;
     if (r.dip) c.dip = *r.dip;
@@ -75,9 +79,10 @@ std::vector<ClassData> usable_classes(const EmpiricalVariogram& v) {
     out.push_back(c);
   }
   if (out.empty())
-    throw InputError(kComponent, source_of(v) + "the variogram has no class with pairs and a value "
-                                                "to fit (too few samples, or lags shorter than "
-                                                "their spacing)");
+    throw InputError(kComponent, source_of(v) +
+                                     "the variogram has no class with pairs and a value "
+                                     "to fit (too few samples, or lags shorter than "
+                                     "their spacing)");
   return out;
 }
 
@@ -529,8 +534,9 @@ FitResult fit_structures(const EmpiricalVariogram& v, const FitOptions& options,
     value_scale = std::max(value_scale, c.value);
   }
   if (!(value_scale > 0))
-    throw InputError(kComponent, source_of(v) + "every class has a semivariance of 0: there is "
-                                                "nothing to fit");
+    throw InputError(kComponent, source_of(v) +
+                                     "every class has a semivariance of 0: there is "
+                                     "nothing to fit");
   result.largest_lag = largest;
   const DataShape shape = data_shape(classes, largest);
   const DirectionInfo info = analyse_directions(classes, v.dimension, shape);

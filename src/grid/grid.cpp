@@ -203,9 +203,10 @@ GridSpec make_grid(const GridOptions& o, int dimension, const std::vector<double
   const double dz = o.cell.size() > 2 ? o.cell[2] : dx;
   const double xmin = e[0], ymin = e[1], xmax = e[2], ymax = e[3];
   if (!(xmax > xmin) || !(ymax > ymin))
-    throw InputError(kComponent, "the extent " + number(xmin) + "," + number(ymin) + "," +
-                                     number(xmax) + "," + number(ymax) +
-                                     " has zero or negative area (xmax must exceed xmin, ymax ymin)");
+    throw InputError(kComponent,
+                     "the extent " + number(xmin) + "," + number(ymin) + "," + number(xmax) + "," +
+                         number(ymax) +
+                         " has zero or negative area (xmax must exceed xmin, ymax ymin)");
   g.xmin = xmin;
   g.ymax = ymax;
   g.dx = dx;
@@ -215,8 +216,7 @@ GridSpec make_grid(const GridOptions& o, int dimension, const std::vector<double
   if (dimension == 3) {
     if (e.size() < 6) throw InputError(kComponent, "a 3D grid needs zmin,zmax in --extent");
     const double zmin = e[4], zmax = e[5];
-    if (!(zmax > zmin))
-      throw InputError(kComponent, "the extent's zmax must exceed zmin");
+    if (!(zmax > zmin)) throw InputError(kComponent, "the extent's zmax must exceed zmin");
     g.zmin = zmin;
     g.dz = dz;
     g.nz = axis_cells(zmin, zmax, dz, "depth (zmax - zmin)");

@@ -14,8 +14,8 @@
 namespace sillstone {
 
 double raster_bytes(const GridSpec& grid, std::size_t bands) {
-  return static_cast<double>(grid.nx) * static_cast<double>(grid.ny) *
-         static_cast<double>(bands) * sizeof(double);
+  return static_cast<double>(grid.nx) * static_cast<double>(grid.ny) * static_cast<double>(bands) *
+         sizeof(double);
 }
 
 std::string raster_driver_for(const std::string& path, const std::string& format,

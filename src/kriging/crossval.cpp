@@ -20,7 +20,8 @@ namespace {
 
 // The samples of `column` that have a value, as a compact SampleSet whose
 // indices the kriging engine shares.
-SampleSet with_values(const SampleSet& s, std::size_t column, const std::vector<std::size_t>& keep) {
+SampleSet with_values(const SampleSet& s, std::size_t column,
+                      const std::vector<std::size_t>& keep) {
   SampleSet out;
   out.source = s.source;
   out.layer = s.layer;
@@ -79,7 +80,8 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
     std::iota(order.begin(), order.end(), 0);
     std::mt19937_64 rng(options.seed);
     for (std::size_t i = n; i > 1; --i) std::swap(order[i - 1], order[rng() % i]);
-    for (std::size_t k = 0; k < n; ++k) fold[order[k]] = static_cast<int>(k % static_cast<std::size_t>(options.folds));
+    for (std::size_t k = 0; k < n; ++k)
+      fold[order[k]] = static_cast<int>(k % static_cast<std::size_t>(options.folds));
   }
 
   // Targets are visited in a spatial order (Z-order of their cell in a
@@ -102,7 +104,9 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
       const double c[3] = {p.x, p.y, p.z};
       std::uint64_t cell[3];
       for (int d = 0; d < 3; ++d)
-        cell[d] = hi[d] > lo[d] ? static_cast<std::uint64_t>((c[d] - lo[d]) / (hi[d] - lo[d]) * 65535.0) : 0;
+        cell[d] = hi[d] > lo[d]
+                      ? static_cast<std::uint64_t>((c[d] - lo[d]) / (hi[d] - lo[d]) * 65535.0)
+                      : 0;
       std::uint64_t k = 0;
       for (int b = 15; b >= 0; --b)
         for (int d = 0; d < 3; ++d) k = (k << 1) | ((cell[d] >> b) & 1);
@@ -114,7 +118,8 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
     for (std::size_t i = 0; i < order.size(); ++i) order[i] = keyed[i].second;
   };
 
-  auto run = [&](const KrigingEngine& engine, std::vector<std::size_t> targets, bool leave_one_out) {
+  auto run = [&](const KrigingEngine& engine, std::vector<std::size_t> targets,
+                 bool leave_one_out) {
     spatial_order(targets);
     std::vector<std::unique_ptr<KrigingEngine::Workspace>> ws;
     for (int t = 0; t < threads; ++t) ws.push_back(engine.make_workspace());
@@ -129,7 +134,8 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
       for (std::size_t k = c * kChunk; k < std::min(targets.size(), (c + 1) * kChunk); ++k) {
         const Point& p = all.points[targets[k]];
         const std::int64_t exclude = leave_one_out ? static_cast<std::int64_t>(targets[k]) : -1;
-        estimates[targets[k]] = engine.estimate(p, w, exclude, external ? engine.external_at(p) : 0.0);
+        estimates[targets[k]] =
+            engine.estimate(p, w, exclude, external ? engine.external_at(p) : 0.0);
       }
     }
   };
@@ -149,8 +155,7 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
       const KrigingEngine engine(training, model, kriging, neighbourhood);
       run(engine, targets, false);
     }
-    for (std::size_t i = 0; i < n; ++i)
-      kriged[i] = kriging.transform.forward(all.values[0][i]);
+    for (std::size_t i = 0; i < n; ++i) kriged[i] = kriging.transform.forward(all.values[0][i]);
   }
 
   // Rows and summary, in sample order (independent of threads).
@@ -186,7 +191,8 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
     r.estimate = o.estimate;
     r.variance = e.variance;
     r.error = r.estimate - r.observed;
-    r.standardised_error = e.variance > 0 ? (e.estimate - kriged[i]) / std::sqrt(e.variance) : std::nan("");
+    r.standardised_error =
+        e.variance > 0 ? (e.estimate - kriged[i]) / std::sqrt(e.variance) : std::nan("");
     ++s.estimated;
     se += r.error;
     sae += std::abs(r.error);
@@ -223,7 +229,8 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
     s.mean_standardised_error = s.mean_squared_standardised_error = s.correlation = std::nan("");
   }
   s.counts.threads = threads;
-  s.counts.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
+  s.counts.seconds =
+      std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count();
   s.counts.warnings = finisher.warnings();
   // Blank cells and undefined figures are said, never left to be found.
   for (const auto& line : describe(s.counts, "sample")) s.counts.warnings.push_back(line);
@@ -234,8 +241,9 @@ CrossValidationResult cross_validate(const SampleSet& samples, const CovarianceM
                                 "coincides), so their standardised_error is empty and left out of "
                                 "the standardised means");
   if (s.estimated > 0 && !std::isfinite(s.correlation))
-    s.counts.warnings.push_back("the correlation of observed and estimated values is undefined: "
-                                "one of them does not vary");
+    s.counts.warnings.push_back(
+        "the correlation of observed and estimated values is undefined: "
+        "one of them does not vary");
   return result;
 }
 
@@ -273,7 +281,8 @@ std::string crossval_summary_json(const CrossValidationResult& r) {
 std::string crossval_summary_text(const CrossValidationResult& r) {
   const auto& s = r.summary;
   std::ostringstream out;
-  out << "Cross-validation (" << (s.folds >= 2 ? std::to_string(s.folds) + "-fold" : "leave-one-out")
+  out << "Cross-validation ("
+      << (s.folds >= 2 ? std::to_string(s.folds) + "-fold" : "leave-one-out")
       << "): " << s.estimated << " of " << s.samples << " samples estimated\n";
   auto line = [&out](const char* label, double v, const char* ideal) {
     // An undefined figure is kMissingForPeople; a warning says why.

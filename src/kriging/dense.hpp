@@ -191,7 +191,8 @@ inline double cholesky_rcond(const double* l, std::size_t n, double norm1, doubl
   // Higham's safeguard: an alternating-sign vector catches matrices on which
   // the iteration stalls.
   for (std::size_t i = 0; i < n; ++i)
-    x[i] = (i % 2 ? -1.0 : 1.0) * (1.0 + static_cast<double>(i) / static_cast<double>(n > 1 ? n - 1 : 1));
+    x[i] = (i % 2 ? -1.0 : 1.0) *
+           (1.0 + static_cast<double>(i) / static_cast<double>(n > 1 ? n - 1 : 1));
   cholesky_solve(l, n, x);
   double alt = 0;
   for (std::size_t i = 0; i < n; ++i) alt += std::abs(x[i]);

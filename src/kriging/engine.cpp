@@ -258,12 +258,10 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
     double v = raw[i];
     if (options.transform.kind != Transform::none) {
       if (!options.transform.accepts(v))
-        throw InputError(kComponent,
-                         InputLocation{samples.source, samples.ids[i], samples.value_names[column]},
-                         "the transform " + options.transform.describe() +
-                             " is undefined for the value " + fmt(v) +
-                             (options.transform.log_offset == 0 ? " (values must be positive)"
-                                                                : ""));
+        throw InputError(
+            kComponent, InputLocation{samples.source, samples.ids[i], samples.value_names[column]},
+            "the transform " + options.transform.describe() + " is undefined for the value " +
+                fmt(v) + (options.transform.log_offset == 0 ? " (values must be positive)" : ""));
       v = options.transform.forward(v);
     }
     used.push_back(i);
@@ -399,7 +397,9 @@ KrigingEngine::KrigingEngine(const SampleSet& samples, const CovarianceModel& mo
       const DeclusteringResult d = decluster(pts, values_, dimension_, {});
       mean_ = d.mean;
       notes_.push_back("simple kriging mean " + fmt(mean_) +
-                       (options.transform.kind == Transform::log ? " (on the scale of " + options.transform.describe() + ")" : std::string()) +
+                       (options.transform.kind == Transform::log
+                            ? " (on the scale of " + options.transform.describe() + ")"
+                            : std::string()) +
                        ": the cell-declustered sample mean (cell " + fmt(d.cell) +
                        "); give --mean to set it");
     } else {

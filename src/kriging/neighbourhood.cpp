@@ -63,7 +63,8 @@ bool NeighbourhoodOptions::is_valid(int dimension, std::string* why) const {
   if (max_points < 1) return fail("--max-points must be at least 1");
   if (min_points < 1) return fail("--min-points must be at least 1");
   if (min_points > max_points) return fail("--min-points exceeds --max-points");
-  if (!(radius >= 0) || !std::isfinite(radius)) return fail("--radius must be positive (0: unlimited)");
+  if (!(radius >= 0) || !std::isfinite(radius))
+    return fail("--radius must be positive (0: unlimited)");
   const int full = dimension == 3 ? 8 : 4;
   if (sectors != 1 && sectors != full)
     return fail("--sectors must be 1 or " + std::to_string(full) + " for " +
@@ -98,7 +99,8 @@ std::size_t NeighbourSearch::find(const Point& target, std::vector<std::uint32_t
                                   Workspace& ws, std::int64_t exclude) const {
   if (options_.global) return find_set(target, out, ws, exclude);
   const Point q = to_search_space(target);
-  if (options_.sectors > 1 && options_.max_per_sector > 0) return find_sectored(q, out, ws, exclude);
+  if (options_.sectors > 1 && options_.max_per_sector > 0)
+    return find_sectored(q, out, ws, exclude);
   const std::size_t n = find_nearest(q, out, ws, exclude);
   // Closest first, ties by index (find_nearest gives ascending indices).
   std::vector<std::pair<double, std::uint32_t>> order;
@@ -221,11 +223,11 @@ std::size_t NeighbourSearch::find_nearest(const Point& q, std::vector<std::uint3
       if (refills >= 3) size = refills >= 7 ? n : std::min(n, 2 * size);  // ties past the cache
       // Along a row, the last target's k-th distance tells the radius that
       // holds about `size` samples (area or volume scales as r^dimension).
-      const double guess = first && ws.last_kth > 0
-                               ? ws.last_kth * std::pow(static_cast<double>(size) /
-                                                            static_cast<double>(want),
-                                                        1.0 / dimension_)
-                               : 0.0;
+      const double guess =
+          first && ws.last_kth > 0
+              ? ws.last_kth * std::pow(static_cast<double>(size) / static_cast<double>(want),
+                                       1.0 / dimension_)
+              : 0.0;
       fill_cache(centre, size, guess, ws);
     }
     const std::size_t m = ws.candidates.size();
@@ -366,7 +368,8 @@ std::size_t NeighbourSearch::find_sectored(const Point& q, std::vector<std::uint
                                            Workspace& ws, std::int64_t exclude) const {
   const std::size_t n = shaped_.size();
   const double qv[3] = {q.x, q.y, q.z};
-  const double radius = options_.radius > 0 ? options_.radius : std::numeric_limits<double>::infinity();
+  const double radius =
+      options_.radius > 0 ? options_.radius : std::numeric_limits<double>::infinity();
   const auto want = static_cast<std::size_t>(options_.max_points);
   std::size_t k = std::min(n, std::max(want + (exclude >= 0 ? 1 : 0), 4 * want));
   int per_sector[8];

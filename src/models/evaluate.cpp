@@ -232,7 +232,8 @@ std::array<double, 9> search_shape(const CovarianceModel& model) {
   if (!longest) return m;
   const detail::CompiledStructure c = detail::compile(*longest);
   for (int r = 0; r < 3; ++r)
-    for (int k = 0; k < 3; ++k) m[static_cast<std::size_t>(3 * r + k)] = c.reduce[r][k] * longest->range;
+    for (int k = 0; k < 3; ++k)
+      m[static_cast<std::size_t>(3 * r + k)] = c.reduce[r][k] * longest->range;
   return m;
 }
 

@@ -139,8 +139,9 @@ class JsonModelReader {
                          "\" (an older model file) is read as " + t.describe() +
                          ", with no offset");
       if (t.kind == Transform::normal_score)
-        fail("transform", "a normal-score model needs its table: {\"kind\": \"normal-score\", "
-                          "\"table\": [[value, score], ...]} (refit the variogram)");
+        fail("transform",
+             "a normal-score model needs its table: {\"kind\": \"normal-score\", "
+             "\"table\": [[value, score], ...]} (refit the variogram)");
       return t;
     }
     if (!value.is_object()) fail("transform", "expected an object such as {\"kind\": \"log\"}");
@@ -223,7 +224,8 @@ ModelFile model_from_json(const std::string& text, const std::string& source_nam
   } catch (const Json::exception& e) {  // a JSON fault the reader's own checks did not name
     const std::string what = e.what();
     const auto at = what.find("] ");
-    throw InputError("model", source_name + ": " + (at == std::string::npos ? what : what.substr(at + 2)));
+    throw InputError("model",
+                     source_name + ": " + (at == std::string::npos ? what : what.substr(at + 2)));
   }
 }
 

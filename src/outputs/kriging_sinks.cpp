@@ -12,8 +12,8 @@
 #include <optional>
 #include <stdexcept>
 
-#include "sillstone/format.hpp"
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/kriging_sink.hpp"
 #include "sillstone/outputs.hpp"
 #include "sillstone/raster.hpp"

@@ -5,8 +5,8 @@
 #include <cmath>
 #include <filesystem>
 
-#include "sillstone/format.hpp"
 #include "sillstone/error.hpp"
+#include "sillstone/format.hpp"
 #include "sillstone/names.hpp"
 #include "sillstone/summary.hpp"
 #include "sillstone/version.hpp"
@@ -77,8 +77,8 @@ void advise_lag_classes(const SampleSet& samples, VariogramOptions* o, StageLog*
   o->lag = advice.lag;
   o->lags = advice.lags;
   log->note("no lag width or maximum distance given; using the suggested lag " +
-            format_for_people(advice.lag, 6) + " and " + std::to_string(advice.lags) +
-            " lags (" + advice.rule + ")");
+            format_for_people(advice.lag, 6) + " and " + std::to_string(advice.lags) + " lags (" +
+            advice.rule + ")");
 }
 
 EmpiricalVariogram variogram_stage(const SampleSet& samples, VariogramOptions o,
@@ -99,8 +99,7 @@ EmpiricalVariogram variogram_stage(const SampleSet& samples, VariogramOptions o,
 }
 
 EmpiricalVariogram read_variogram_stage(const std::string& path,
-                                        const std::optional<ValueTransform>& asked,
-                                        StageLog* log) {
+                                        const std::optional<ValueTransform>& asked, StageLog* log) {
   EmpiricalVariogram v = read_variogram(path);
   v.source = path;
   if (!v.transform_recorded) {
@@ -119,8 +118,8 @@ EmpiricalVariogram read_variogram_stage(const std::string& path,
   const ValueTransform recorded = transform_of(v);
   if (asked && (asked->kind != recorded.kind ||
                 (asked->kind == Transform::log && asked->log_offset != recorded.log_offset)))
-    throw InputError("fit", path + " is a variogram of " + recorded.describe() +
-                                ", not of " + asked->describe() + " as asked");
+    throw InputError("fit", path + " is a variogram of " + recorded.describe() + ", not of " +
+                                asked->describe() + " as asked");
   return v;
 }
 

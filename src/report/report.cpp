@@ -26,11 +26,20 @@ std::string esc(const std::string& s) {
   std::string out;
   for (char c : s) {
     switch (c) {
-      case '&': out += "&amp;"; break;
-      case '<': out += "&lt;"; break;
-      case '>': out += "&gt;"; break;
-      case '"': out += "&quot;"; break;
-      default: out += c;
+      case '&':
+        out += "&amp;";
+        break;
+      case '<':
+        out += "&lt;";
+        break;
+      case '>':
+        out += "&gt;";
+        break;
+      case '"':
+        out += "&quot;";
+        break;
+      default:
+        out += c;
     }
   }
   return out;
@@ -268,11 +277,14 @@ void data_section(Html& h, const ReportInput& in) {
       "; samples at one location: " + esc(std::string(name_of(s.duplicates))) + ".");
   std::vector<std::vector<std::string>> rows;
   const auto& lw = sum.load;
-  rows.push_back({"rows read / kept", std::to_string(lw.rows_read) + " / " + std::to_string(lw.rows_kept)});
-  rows.push_back({"dropped: no coordinates / no value",
-                  std::to_string(lw.dropped_no_coordinate) + " / " + std::to_string(lw.dropped_no_value)});
-  rows.push_back({"duplicate locations (rows merged)", std::to_string(lw.duplicate_locations) +
-                                                           " (" + std::to_string(lw.duplicate_rows_removed) + ")"});
+  rows.push_back(
+      {"rows read / kept", std::to_string(lw.rows_read) + " / " + std::to_string(lw.rows_kept)});
+  rows.push_back(
+      {"dropped: no coordinates / no value",
+       std::to_string(lw.dropped_no_coordinate) + " / " + std::to_string(lw.dropped_no_value)});
+  rows.push_back(
+      {"duplicate locations (rows merged)", std::to_string(lw.duplicate_locations) + " (" +
+                                                std::to_string(lw.duplicate_rows_removed) + ")"});
   for (std::size_t k = 0; k < sum.names.size(); ++k) {
     const auto& t = sum.stats[k];
     const std::string& n = sum.names[k];
@@ -281,13 +293,15 @@ void data_section(Html& h, const ReportInput& in) {
                         std::to_string(lw.below_detection[k])});
     rows.push_back({n + ": mean, sd, CV", num(t.mean) + ", " + num(t.sd) + ", " + num(t.cv, 3)});
     rows.push_back({n + ": min, Q1, median, Q3, max", num(t.min) + ", " + num(t.q1) + ", " +
-                                                          num(t.median) + ", " + num(t.q3) + ", " + num(t.max)});
+                                                          num(t.median) + ", " + num(t.q3) + ", " +
+                                                          num(t.max)});
     rows.push_back({n + ": skewness; declustered mean (cell)",
                     num(t.skewness, 3) + "; " + num(sum.declustered[k].mean) + " (" +
                         num(sum.declustered[k].cell) + ")"});
   }
-  rows.push_back({"nearest-neighbour spacing: median (min–max)",
-                  num(sum.spacing.median) + " (" + num(sum.spacing.min) + "–" + num(sum.spacing.max) + ")"});
+  rows.push_back(
+      {"nearest-neighbour spacing: median (min–max)",
+       num(sum.spacing.median) + " (" + num(sum.spacing.min) + "–" + num(sum.spacing.max) + ")"});
   h.table({"summary", "value"}, rows);
 
   const auto& values = s.values.front();
@@ -312,8 +326,9 @@ void data_section(Html& h, const ReportInput& in) {
     lm.value.push_back(values[i]);
   }
   h.out << "<div class=\"grid2\">";
-  h.figure(histogram_svg(hp), std::string(hp.log_x ? "Logarithmic axis: the data are right-skewed. " : "") +
-                                  "Outlined: the declustered histogram.");
+  h.figure(histogram_svg(hp),
+           std::string(hp.log_x ? "Logarithmic axis: the data are right-skewed. " : "") +
+               "Outlined: the declustered histogram.");
   h.figure(location_map_svg(lm), s.dimension == 3 ? "Plan view of the samples (all elevations)."
                                                   : "Classes hold equal numbers of samples.");
   h.out << "</div>\n";
@@ -326,7 +341,8 @@ void variogram_section(Html& h, const ReportInput& in) {
   VariogramPlot vp;
   vp.title = "Empirical variogram and fitted model";
   vp.distance_label = "distance (" + units + ")";
-  vp.gamma_label = "semivariance" + (v.summary.transform != "none" ? " of " + v.summary.transform : std::string());
+  vp.gamma_label = "semivariance" +
+                   (v.summary.transform != "none" ? " of " + v.summary.transform : std::string());
   vp.sill = v.summary.variance;
   vp.sill_label = "sample variance";
   const CovarianceModel& m = in.model->model;
@@ -338,8 +354,8 @@ void variogram_section(Html& h, const ReportInput& in) {
     for (int i = 0; i <= 100; ++i) {
       const double hh = hmax * i / 100.0;
       series.model_h.push_back(hh);
-      series.model_gamma.push_back(
-          m.variogram(hh * std::sin(t) * std::cos(d), hh * std::cos(t) * std::cos(d), -hh * std::sin(d)));
+      series.model_gamma.push_back(m.variogram(hh * std::sin(t) * std::cos(d),
+                                               hh * std::cos(t) * std::cos(d), -hh * std::sin(d)));
     }
   };
   // One series per direction, in the order of the table.
@@ -349,8 +365,9 @@ void variogram_section(Html& h, const ReportInput& in) {
       dirs.push_back({row.azimuth, row.dip});
   for (const auto& [az, dip] : dirs) {
     VariogramSeries series;
-    series.label = az ? "azimuth " + num(*az) + "°" + (dip ? ", dip " + num(*dip) + "°" : "")
-                      : dip ? "dip " + num(*dip) + "°" : "omnidirectional";
+    series.label = az    ? "azimuth " + num(*az) + "°" + (dip ? ", dip " + num(*dip) + "°" : "")
+                   : dip ? "dip " + num(*dip) + "°"
+                         : "omnidirectional";
     for (const auto& row : v.rows)
       if (row.azimuth == az && row.dip == dip && row.pairs > 0) {
         series.distance.push_back(row.mean_distance);
@@ -362,9 +379,9 @@ void variogram_section(Html& h, const ReportInput& in) {
   }
   if (dirs.size() == 1 && !dirs.front().first && !m.is_isotropic()) {
     // Omnidirectional points and an anisotropic model: draw the model's two axes.
-    const Structure& longest = *std::max_element(
-        m.structures().begin(), m.structures().end(),
-        [](const Structure& a, const Structure& b) { return a.range < b.range; });
+    const Structure& longest =
+        *std::max_element(m.structures().begin(), m.structures().end(),
+                          [](const Structure& a, const Structure& b) { return a.range < b.range; });
     vp.series.front().label = "omnidirectional, model: major axis";
     curve(longest.anisotropy.azimuth, 0, vp.series.front());
     VariogramSeries minor;
@@ -373,8 +390,9 @@ void variogram_section(Html& h, const ReportInput& in) {
     vp.series.push_back(minor);
   }
   vp.pair_labels = dirs.size() == 1;
-  h.figure(variogram_svg(vp), "Points: empirical semivariance by lag class (marker size grows with "
-                              "the number of pairs); lines: the model; dashed: the sample variance.");
+  h.figure(variogram_svg(vp),
+           "Points: empirical semivariance by lag class (marker size grows with "
+           "the number of pairs); lines: the model; dashed: the sample variance.");
   if (v.surface) {
     RasterMapPlot sp;
     sp.title = "Variogram surface";
@@ -388,15 +406,18 @@ void variogram_section(Html& h, const ReportInput& in) {
     sp.y_label = "north–south lag (" + units + ")";
     sp.north_arrow = false;
     sp.scale_bar = false;
-    h.figure(raster_map_svg(sp), "Semivariance by lag vector: a low-valued centre stretched along "
-                                 "one direction points along the longest continuity.");
+    h.figure(raster_map_svg(sp),
+             "Semivariance by lag vector: a low-valued centre stretched along "
+             "one direction points along the longest continuity.");
   }
   std::vector<std::vector<std::string>> rows;
   for (const auto& row : v.rows)
     rows.push_back({row.azimuth ? num(*row.azimuth) : "–", row.dip ? num(*row.dip) : "–",
                     num(row.lag_from) + "–" + num(row.lag_to), num(row.mean_distance),
                     std::to_string(row.pairs), num(row.value)});
-  h.table({"azimuth", "dip", "lag class", "mean distance", "pairs", value_column(v.options.statistic)}, rows);
+  h.table(
+      {"azimuth", "dip", "lag class", "mean distance", "pairs", value_column(v.options.statistic)},
+      rows);
   if (v.summary.sparse_classes > 0)
     h.p(std::to_string(v.summary.sparse_classes) +
         " class(es) hold fewer than 30 pairs (common practice: read them with care).");
@@ -485,7 +506,9 @@ void crossval_section(Html& h, const ReportInput& in) {
     h.p("The same cross-validation for other kriging set-ups ([crossval] also), with the same "
         "model and neighbourhood; each starts from the defaults of <code>crossval</code> plus "
         "the keys it names:");
-    h.table({"set-up", "ME", "RMSE", "mean std. error", "mean sq. std. error", "correlation", "estimated"}, rows);
+    h.table({"set-up", "ME", "RMSE", "mean std. error", "mean sq. std. error", "correlation",
+             "estimated"},
+            rows);
   }
   ScatterPlot sc;
   sc.title = "Observed against estimated";
@@ -533,13 +556,15 @@ void map_section(Html& h, const ReportInput& in, const std::vector<ExceedanceAre
   RasterMapPlot u = e;
   u.title = std::string("Kriging standard deviation") + (logged ? " (log scale)" : "");
   u.value_label = logged ? "standard deviation of ln " + s.value_names.front()
-                         : "standard deviation" + (units_value.empty() ? std::string() : " (" + units_value + ")");
+                         : "standard deviation" +
+                               (units_value.empty() ? std::string() : " (" + units_value + ")");
   u.grid = band_grid(k, sd, 800);
-  h.figure(raster_map_svg(e), "Kriged estimate" +
-                                  std::string(logged ? ", back-transformed from the log scale" : "") +
-                                  "; dots: samples.");
-  h.figure(raster_map_svg(u), "Square root of the kriging variance: high where samples are "
-                              "sparse, low near them.");
+  h.figure(raster_map_svg(e),
+           "Kriged estimate" + std::string(logged ? ", back-transformed from the log scale" : "") +
+               "; dots: samples.");
+  h.figure(raster_map_svg(u),
+           "Square root of the kriging variance: high where samples are "
+           "sparse, low near them.");
   if (std::isfinite(ko.threshold)) {
     RasterMapPlot pr = e;
     pr.title = "Probability that " + s.value_names.front() + " exceeds " + num(ko.threshold);
@@ -708,22 +733,26 @@ std::string render_report(const ReportInput& in) {
         << "<title>" << esc(title) << "</title>\n<style>" << kStyle << "</style></head><body>\n";
   h.out << "<h1>" << esc(title) << "</h1>\n<p class=\"sub\">sillstone " << esc(in.version) << " · "
         << esc(std::string(name_of(ko.method))) << " kriging" << (logged ? " (lognormal)" : "")
-        << " of " << esc(s.value_names.front()) << " from " << s.size() << " sample locations</p>\n";
+        << " of " << esc(s.value_names.front()) << " from " << s.size()
+        << " sample locations</p>\n";
   h.out << "<div class=\"caution\"><b>Caution.</b> " << esc(caution_text()) << "</div>\n";
-  h.out << "<nav><a href=\"#data\">Data</a><a href=\"#variogram\">Variogram</a><a href=\"#model\">Model</a>"
-        << (in.crossval ? "<a href=\"#crossval\">Cross-validation</a>" : "")
-        << "<a href=\"#maps\">" << (three_d ? "Block model" : "Maps")
-        << "</a><a href=\"#settings\">Settings</a></nav>\n";
+  h.out << "<nav><a href=\"#data\">Data</a><a href=\"#variogram\">Variogram</a><a "
+           "href=\"#model\">Model</a>"
+        << (in.crossval ? "<a href=\"#crossval\">Cross-validation</a>" : "") << "<a href=\"#maps\">"
+        << (three_d ? "Block model" : "Maps") << "</a><a href=\"#settings\">Settings</a></nav>\n";
 
   // Key results first: what the reader came for.
   std::vector<ExceedanceArea> areas;
   if (!three_d && std::isfinite(ko.threshold)) areas = exceedance_areas(*in.result, {0.5, 0.9});
   h.out << "<div class=\"keys\">";
   auto key = [&h](const std::string& value, const std::string& label) {
-    h.out << "<div class=\"key\"><b>" << esc(value) << "</b><span>" << esc(label) << "</span></div>";
+    h.out << "<div class=\"key\"><b>" << esc(value) << "</b><span>" << esc(label)
+          << "</span></div>";
   };
-  key(std::to_string(s.size()), "sample locations (" + std::to_string(sum.load.rows_read) + " rows read)");
-  key(num(sum.stats.front().mean) + " / " + num(sum.declustered.front().mean), "raw / declustered mean");
+  key(std::to_string(s.size()),
+      "sample locations (" + std::to_string(sum.load.rows_read) + " rows read)");
+  key(num(sum.stats.front().mean) + " / " + num(sum.declustered.front().mean),
+      "raw / declustered mean");
   key(to_spec_for_people(in.model->model),
       std::string("covariance model") + (logged ? " (log scale)" : ""));
   if (in.crossval)
@@ -758,8 +787,7 @@ std::string render_report(const ReportInput& in) {
                              ", estimator " + std::string(name_of(v.options.estimator)) +
                              ", transform " + v.summary.transform},
            {"model", to_spec_for_people(in.model->model)},
-           {"kriging", std::string(name_of(ko.method)) + ", transform " +
-                           ko.transform.describe() +
+           {"kriging", std::string(name_of(ko.method)) + ", transform " + ko.transform.describe() +
                            (ko.block.empty() ? ", points" : ", blocks")},
            {"neighbourhood", nb.global
                                  ? std::string("global")

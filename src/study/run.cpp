@@ -48,14 +48,18 @@ nlohmann::json cross_validation_json(
   if (!enabled) return json();
   auto one = [](const CrossValidationSummary& s) {
     auto n = [](double v) { return std::isfinite(v) ? json(v) : json(); };
-    return json{{"samples", s.samples}, {"estimated", s.estimated}, {"mean_error", n(s.mean_error)},
-                {"mean_absolute_error", n(s.mean_absolute_error)}, {"rmse", n(s.rmse)},
+    return json{{"samples", s.samples},
+                {"estimated", s.estimated},
+                {"mean_error", n(s.mean_error)},
+                {"mean_absolute_error", n(s.mean_absolute_error)},
+                {"rmse", n(s.rmse)},
                 {"mean_standardised_error", n(s.mean_standardised_error)},
                 {"mean_squared_standardised_error", n(s.mean_squared_standardised_error)},
                 {"correlation", n(s.correlation)}};
   };
   json j = {{"study", one(cv.summary)}, {"also", json::array()}};
-  for (const auto& [label, s] : alternatives) j["also"].push_back({{"label", label}, {"summary", one(s)}});
+  for (const auto& [label, s] : alternatives)
+    j["also"].push_back({{"label", label}, {"summary", one(s)}});
   return j;
 }
 
@@ -89,25 +93,33 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   if (st.model.kind != ModelChoice::Kind::spec) require_variation(samples, 0, "run");
   const bool three_d = samples.dimension == 3;
   const std::string dir = ro.output_dir.empty() ? st.output_dir : ro.output_dir;
-  std::vector<std::string> names = {"summary.json", "variogram.csv", "model.json", "crossval.csv",
-                                    three_d ? "blocks.csv" : "estimate.tif", "report.html",
+  std::vector<std::string> names = {"summary.json",
+                                    "variogram.csv",
+                                    "model.json",
+                                    "crossval.csv",
+                                    three_d ? "blocks.csv" : "estimate.tif",
+                                    "report.html",
                                     "run.json"};
   if (!three_d) names.push_back("variogram_surface.tif");
   RunFolder folder(dir, names, overwrite);  // checks every output name, refuses "/"
   result.folder = folder.path();
-  const auto out = [&result](const char* name) { return (fs::path(result.folder) / name).string(); };
+  const auto out = [&result](const char* name) {
+    return (fs::path(result.folder) / name).string();
+  };
   if (!three_d) raster_driver_for(out("estimate.tif"), st.format, "-o", "[output] format");
 
   if (three_d && !st.mask.empty())
-    throw InputError("study", st.path + ": [grid] mask applies to 2D rasters; a 3D block "
-                                        "model is limited with [grid] blocks");
+    throw InputError("study", st.path +
+                                  ": [grid] mask applies to 2D rasters; a 3D block "
+                                  "model is limited with [grid] blocks");
   const GridSpec grid = plan_grid(st.grid, samples, st.mask, &log);
   const std::size_t extra = std::isnan(st.kriging.threshold) ? 0 : 1;
   check_output_size(grid, three_d ? 5 + extra : 2 + extra, three_d,
                     out(three_d ? "blocks.csv" : "estimate.tif"), KrigedGrid::bytes(grid, extra));
   if (!st.kriging.external_drift.empty()) check_external_drift(st.kriging.external_drift, samples);
   for (const auto& alt : st.crossval_also)
-    if (!alt.options.external_drift.empty()) check_external_drift(alt.options.external_drift, samples);
+    if (!alt.options.external_drift.empty())
+      check_external_drift(alt.options.external_drift, samples);
   ModelFile model;
   if (st.model.kind == ModelChoice::Kind::spec) model = load_model(st.model.spec);
 
@@ -132,7 +144,8 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   vo.threads = st.kriging.threads;
   const EmpiricalVariogram variogram = variogram_stage(samples, vo, {}, &log);
   write_variogram(stage_output("variogram.csv"), variogram, false);
-  if (variogram.surface) write_variogram_surface(stage_output("variogram_surface.tif"), variogram, false);
+  if (variogram.surface)
+    write_variogram_surface(stage_output("variogram_surface.tif"), variogram, false);
 
   // Model: given, fitted or chosen; it describes the variogram's transform.
   stage("model");
@@ -247,7 +260,8 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
   json input_list = json::array();
   for (const auto& [what, sha] : inputs) {
     const auto colon = what.find(": ");
-    input_list.push_back({{"role", what.substr(0, colon)}, {"path", what.substr(colon + 2)}, {"sha256", sha}});
+    input_list.push_back(
+        {{"role", what.substr(0, colon)}, {"path", what.substr(colon + 2)}, {"sha256", sha}});
   }
   json outputs = json::array();
   for (std::size_t i = 0; i < staged.size(); ++i)
@@ -257,16 +271,24 @@ RunResult run_study(const Study& st, const RunOptions& ro) {
               {"time_utc", utc_now()},
               {"inputs", input_list},
               {"settings", json::parse(study_settings_json(st))},
-              {"resolved", {{"variogram_lag", variogram.options.lag},
-                            {"variogram_lags", variogram.options.lags},
-                            {"variogram_max_distance", variogram.options.max_distance},
-                            {"model", to_spec(model.model)},
-                            {"model_transform", model.transform.describe()},
-                            {"kriging_transform", ko.transform.describe()},
-                            {"crossval_support", "points"},
-                            {"grid", {{"xmin", grid.xmin}, {"ymax", grid.ymax}, {"zmin", grid.zmin},
-                                      {"dx", grid.dx}, {"dy", grid.dy}, {"dz", grid.dz},
-                                      {"nx", grid.nx}, {"ny", grid.ny}, {"nz", grid.nz}}}}},
+              {"resolved",
+               {{"variogram_lag", variogram.options.lag},
+                {"variogram_lags", variogram.options.lags},
+                {"variogram_max_distance", variogram.options.max_distance},
+                {"model", to_spec(model.model)},
+                {"model_transform", model.transform.describe()},
+                {"kriging_transform", ko.transform.describe()},
+                {"crossval_support", "points"},
+                {"grid",
+                 {{"xmin", grid.xmin},
+                  {"ymax", grid.ymax},
+                  {"zmin", grid.zmin},
+                  {"dx", grid.dx},
+                  {"dy", grid.dy},
+                  {"dz", grid.dz},
+                  {"nx", grid.nx},
+                  {"ny", grid.ny},
+                  {"nz", grid.nz}}}}},
               {"outputs", outputs},
               {"crossval", cross_validation_json(cv, alternatives, st.crossval_enabled)},
               {"notes", result.notes},

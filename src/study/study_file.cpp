@@ -27,7 +27,8 @@ class Reader {
  public:
   explicit Reader(std::string file) : file_(std::move(file)) {}
 
-  [[noreturn]] void fail(const toml::node& node, const std::string& key, const std::string& what) const {
+  [[noreturn]] void fail(const toml::node& node, const std::string& key,
+                         const std::string& what) const {
     throw InputError("study", file_ + ", line " + std::to_string(node.source().begin.line) +
                                   ", key '" + key + "': " + what);
   }
@@ -58,12 +59,17 @@ class Reader {
   int integer(const toml::node& n, const std::string& key) const {
     constexpr double lo = std::numeric_limits<int>::min(), hi = std::numeric_limits<int>::max();
     double v = std::nan("");
-    if (const auto* i = n.as_integer()) v = static_cast<double>(i->get());
-    else if (const auto* f = n.as_floating_point()) v = f->get();
-    else fail(n, key, "expected a whole number");
+    if (const auto* i = n.as_integer())
+      v = static_cast<double>(i->get());
+    else if (const auto* f = n.as_floating_point())
+      v = f->get();
+    else
+      fail(n, key, "expected a whole number");
     if (!(v == std::trunc(v))) fail(n, key, "expected a whole number");
-    if (v < lo || v > hi) fail(n, key, "expected a whole number between " + std::to_string(int(lo)) +
-                                           " and " + std::to_string(int(hi)));
+    if (v < lo || v > hi)
+      fail(n, key,
+           "expected a whole number between " + std::to_string(int(lo)) + " and " +
+               std::to_string(int(hi)));
     return static_cast<int>(v);
   }
   bool boolean(const toml::node& n, const std::string& key) const {
@@ -122,7 +128,8 @@ using Handler = std::function<void(const toml::node&, const std::string& key)>;
 Study read_study(const std::string& path) {
   std::error_code ec;
   if (!fs::exists(path, ec)) throw InputError("study", path + ": no such file");
-  if (fs::is_directory(path, ec)) throw InputError("study", path + ": is a folder, not a study file");
+  if (fs::is_directory(path, ec))
+    throw InputError("study", path + ": is a folder, not a study file");
   refuse_special_input(path, "study", "STUDY");
   std::ifstream in(path, std::ios::binary);
   if (!in) throw InputError("study", path + ": cannot be opened for reading");
@@ -139,7 +146,8 @@ Study parse_study(const std::string& text, const std::string& path) {
   try {
     doc = toml::parse(text, path);
   } catch (const toml::parse_error& e) {
-    throw InputError("study", InputLocation{path, "line " + std::to_string(e.source().begin.line), ""},
+    throw InputError("study",
+                     InputLocation{path, "line " + std::to_string(e.source().begin.line), ""},
                      "not valid TOML: " + std::string(e.description()));
   }
   const Reader r(path);
@@ -161,8 +169,12 @@ Study parse_study(const std::string& text, const std::string& path) {
   s["where"] = [&](const toml::node& n, const std::string& k) { so.where = r.string(n, k); };
   s["crs"] = [&](const toml::node& n, const std::string& k) { so.crs = r.string(n, k); };
   s["to_crs"] = [&](const toml::node& n, const std::string& k) { so.to_crs = r.string(n, k); };
-  s["below_detection"] = [&](const toml::node& n, const std::string& k) { so.below_detection = r.named<BelowDetection>(n, k); };
-  s["duplicates"] = [&](const toml::node& n, const std::string& k) { so.duplicates = r.named<DuplicatePolicy>(n, k); };
+  s["below_detection"] = [&](const toml::node& n, const std::string& k) {
+    so.below_detection = r.named<BelowDetection>(n, k);
+  };
+  s["duplicates"] = [&](const toml::node& n, const std::string& k) {
+    so.duplicates = r.named<DuplicatePolicy>(n, k);
+  };
 
   auto& v = sections["variogram"];
   VariogramOptions& vo = st.variogram;
@@ -174,16 +186,32 @@ Study parse_study(const std::string& text, const std::string& path) {
   v["max_distance"] = [&](const toml::node& n, const std::string& k) {
     vo.max_distance = r.positive(n, k);
   };
-  v["statistic"] = [&](const toml::node& n, const std::string& k) { vo.statistic = r.named<VariogramStatistic>(n, k); };
+  v["statistic"] = [&](const toml::node& n, const std::string& k) {
+    vo.statistic = r.named<VariogramStatistic>(n, k);
+  };
   v["azimuths"] = [&](const toml::node& n, const std::string& k) { vo.azimuths = r.numbers(n, k); };
-  v["angle_tolerance"] = [&](const toml::node& n, const std::string& k) { vo.angle_tolerance = r.number(n, k); };
-  v["bandwidth"] = [&](const toml::node& n, const std::string& k) { vo.bandwidth = r.number(n, k); };
+  v["angle_tolerance"] = [&](const toml::node& n, const std::string& k) {
+    vo.angle_tolerance = r.number(n, k);
+  };
+  v["bandwidth"] = [&](const toml::node& n, const std::string& k) {
+    vo.bandwidth = r.number(n, k);
+  };
   v["dips"] = [&](const toml::node& n, const std::string& k) { vo.dips = r.numbers(n, k); };
-  v["dip_tolerance"] = [&](const toml::node& n, const std::string& k) { vo.dip_tolerance = r.number(n, k); };
-  v["vertical_bandwidth"] = [&](const toml::node& n, const std::string& k) { vo.vertical_bandwidth = r.number(n, k); };
-  v["estimator"] = [&](const toml::node& n, const std::string& k) { vo.estimator = r.named<VariogramEstimator>(n, k); };
-  v["transform"] = [&](const toml::node& n, const std::string& k) { vo.transform = r.named<Transform>(n, k); };
-  v["log_offset"] = [&](const toml::node& n, const std::string& k) { vo.log_offset = r.number(n, k); };
+  v["dip_tolerance"] = [&](const toml::node& n, const std::string& k) {
+    vo.dip_tolerance = r.number(n, k);
+  };
+  v["vertical_bandwidth"] = [&](const toml::node& n, const std::string& k) {
+    vo.vertical_bandwidth = r.number(n, k);
+  };
+  v["estimator"] = [&](const toml::node& n, const std::string& k) {
+    vo.estimator = r.named<VariogramEstimator>(n, k);
+  };
+  v["transform"] = [&](const toml::node& n, const std::string& k) {
+    vo.transform = r.named<Transform>(n, k);
+  };
+  v["log_offset"] = [&](const toml::node& n, const std::string& k) {
+    vo.log_offset = r.number(n, k);
+  };
   v["surface_cell"] = [&](const toml::node& n, const std::string& k) {
     vo.surface_cell = r.positive(n, k);
   };
@@ -200,7 +228,8 @@ Study parse_study(const std::string& text, const std::string& path) {
     mc.kind = ModelChoice::Kind::spec;
     mc.spec = r.string(n, k);
     // A model.json beside the study resolves like any path.
-    if (mc.spec.size() > 5 && mc.spec.substr(mc.spec.size() - 5) == ".json") mc.spec = resolve(mc.spec);
+    if (mc.spec.size() > 5 && mc.spec.substr(mc.spec.size() - 5) == ".json")
+      mc.spec = resolve(mc.spec);
   };
   m["auto"] = [&](const toml::node& n, const std::string& k) {
     once(n, k);
@@ -211,73 +240,114 @@ Study parse_study(const std::string& text, const std::string& path) {
     once(n, k);
     mc.kind = ModelChoice::Kind::fit;
     const toml::table* t = n.as_table();
-    if (!t) r.fail(n, k, "expected a table, e.g. fit = { structures = [\"nugget\", \"spherical\"] }");
+    if (!t)
+      r.fail(n, k, "expected a table, e.g. fit = { structures = [\"nugget\", \"spherical\"] }");
     for (const auto& [key, value] : *t) {
       const std::string name = "fit." + std::string(key.str());
-      if (key == "structures") mc.structures = r.strings(value, name);
-      else if (key == "weights") mc.weights = r.string(value, name);
-      else if (key == "fix") mc.fix = r.strings(value, name);
-      else r.fail(value, name, "unknown key (keys of fit: structures, weights, fix)");
+      if (key == "structures")
+        mc.structures = r.strings(value, name);
+      else if (key == "weights")
+        mc.weights = r.string(value, name);
+      else if (key == "fix")
+        mc.fix = r.strings(value, name);
+      else
+        r.fail(value, name, "unknown key (keys of fit: structures, weights, fix)");
     }
-    if (mc.structures.empty()) r.fail(n, k, "fit needs structures, e.g. [\"nugget\", \"spherical\"]");
+    if (mc.structures.empty())
+      r.fail(n, k, "fit needs structures, e.g. [\"nugget\", \"spherical\"]");
   };
   m["weights"] = [&](const toml::node& n, const std::string& k) { mc.weights = r.string(n, k); };
 
   auto& c = sections["crossval"];
-  c["folds"] = [&](const toml::node& n, const std::string& k) { st.crossval.folds = r.integer(n, k); };
-  c["skip"] = [&](const toml::node& n, const std::string& k) { st.crossval_enabled = !r.boolean(n, k); };
+  c["folds"] = [&](const toml::node& n, const std::string& k) {
+    st.crossval.folds = r.integer(n, k);
+  };
+  c["skip"] = [&](const toml::node& n, const std::string& k) {
+    st.crossval_enabled = !r.boolean(n, k);
+  };
   // Alternatives are read after [kriging], whose options they modify.
   const toml::node* also_node = nullptr;
   c["also"] = [&](const toml::node& n, const std::string& k) {
-    if (!n.is_array()) r.fail(n, k, "expected an array of tables, e.g. [{ label = \"ok\", method = \"ordinary\" }]");
+    if (!n.is_array())
+      r.fail(n, k, "expected an array of tables, e.g. [{ label = \"ok\", method = \"ordinary\" }]");
     also_node = &n;
   };
 
   auto& nb = sections["neighbourhood"];
   NeighbourhoodOptions& no = st.neighbourhood;
-  nb["max_points"] = [&](const toml::node& n, const std::string& k) { no.max_points = r.integer(n, k); };
-  nb["min_points"] = [&](const toml::node& n, const std::string& k) { no.min_points = r.integer(n, k); };
+  nb["max_points"] = [&](const toml::node& n, const std::string& k) {
+    no.max_points = r.integer(n, k);
+  };
+  nb["min_points"] = [&](const toml::node& n, const std::string& k) {
+    no.min_points = r.integer(n, k);
+  };
   nb["radius"] = [&](const toml::node& n, const std::string& k) { no.radius = r.positive(n, k); };
   nb["sectors"] = [&](const toml::node& n, const std::string& k) { no.sectors = r.integer(n, k); };
-  nb["max_per_sector"] = [&](const toml::node& n, const std::string& k) { no.max_per_sector = r.integer(n, k); };
+  nb["max_per_sector"] = [&](const toml::node& n, const std::string& k) {
+    no.max_per_sector = r.integer(n, k);
+  };
   nb["global"] = [&](const toml::node& n, const std::string& k) { no.global = r.boolean(n, k); };
 
   auto& g = sections["grid"];
   g["cell"] = [&](const toml::node& n, const std::string& k) { st.grid.cell = r.numbers(n, k); };
-  g["extent"] = [&](const toml::node& n, const std::string& k) { st.grid.extent = r.numbers(n, k); };
-  g["like"] = [&](const toml::node& n, const std::string& k) { st.grid.like = resolve(r.string(n, k)); };
+  g["extent"] = [&](const toml::node& n, const std::string& k) {
+    st.grid.extent = r.numbers(n, k);
+  };
+  g["like"] = [&](const toml::node& n, const std::string& k) {
+    st.grid.like = resolve(r.string(n, k));
+  };
   g["mask"] = [&](const toml::node& n, const std::string& k) { st.mask = resolve(r.string(n, k)); };
-  g["blocks"] = [&](const toml::node& n, const std::string& k) { st.blocks = resolve(r.string(n, k)); };
+  g["blocks"] = [&](const toml::node& n, const std::string& k) {
+    st.blocks = resolve(r.string(n, k));
+  };
   g["large_grid"] = [&](const toml::node& n, const std::string& k) {
     st.grid.large_grid = r.boolean(n, k);
   };
 
   auto& kr = sections["kriging"];
   KrigingOptions& ko = st.kriging;
-  kr["method"] = [&](const toml::node& n, const std::string& k) { ko.method = r.named<KrigingMethod>(n, k); };
+  kr["method"] = [&](const toml::node& n, const std::string& k) {
+    ko.method = r.named<KrigingMethod>(n, k);
+  };
   kr["mean"] = [&](const toml::node& n, const std::string& k) { ko.mean = r.number(n, k); };
   kr["drift"] = [&](const toml::node& n, const std::string& k) { ko.drift = r.named<Drift>(n, k); };
-  kr["external_drift"] = [&](const toml::node& n, const std::string& k) { ko.external_drift = resolve(r.string(n, k)); };
+  kr["external_drift"] = [&](const toml::node& n, const std::string& k) {
+    ko.external_drift = resolve(r.string(n, k));
+  };
   kr["block"] = [&](const toml::node& n, const std::string& k) { ko.block = r.numbers(n, k); };
-  kr["discretise"] = [&](const toml::node& n, const std::string& k) { ko.discretise = r.integers(n, k); };
+  kr["discretise"] = [&](const toml::node& n, const std::string& k) {
+    ko.discretise = r.integers(n, k);
+  };
   kr["transform"] = [&](const toml::node& n, const std::string& k) {
     st.kriging_transform = r.named<Transform>(n, k);
   };
-  kr["threshold"] = [&](const toml::node& n, const std::string& k) { ko.threshold = r.number(n, k); };
+  kr["threshold"] = [&](const toml::node& n, const std::string& k) {
+    ko.threshold = r.number(n, k);
+  };
   kr["threads"] = [&](const toml::node& n, const std::string& k) { ko.threads = r.integer(n, k); };
 
   auto& o = sections["output"];
-  o["dir"] = [&](const toml::node& n, const std::string& k) { st.output_dir = resolve(r.string(n, k)); };
+  o["dir"] = [&](const toml::node& n, const std::string& k) {
+    st.output_dir = resolve(r.string(n, k));
+  };
   o["format"] = [&](const toml::node& n, const std::string& k) { st.format = r.string(n, k); };
-  o["overwrite"] = [&](const toml::node& n, const std::string& k) { st.overwrite = r.boolean(n, k); };
+  o["overwrite"] = [&](const toml::node& n, const std::string& k) {
+    st.overwrite = r.boolean(n, k);
+  };
 
   auto& rp = sections["report"];
-  rp["title"] = [&](const toml::node& n, const std::string& k) { st.report.title = r.string(n, k); };
-  rp["units"] = [&](const toml::node& n, const std::string& k) { st.report.units = r.string(n, k); };
+  rp["title"] = [&](const toml::node& n, const std::string& k) {
+    st.report.title = r.string(n, k);
+  };
+  rp["units"] = [&](const toml::node& n, const std::string& k) {
+    st.report.units = r.string(n, k);
+  };
   rp["density"] = [&](const toml::node& n, const std::string& k) {
     st.report.density = r.positive(n, k);
   };
-  rp["cutoffs"] = [&](const toml::node& n, const std::string& k) { st.report.cutoffs = r.numbers(n, k); };
+  rp["cutoffs"] = [&](const toml::node& n, const std::string& k) {
+    st.report.cutoffs = r.numbers(n, k);
+  };
 
   for (const auto& [section, node] : doc) {
     const std::string name(section.str());
@@ -311,12 +381,20 @@ Study parse_study(const std::string& text, const std::string& path) {
       alt.options.threads = st.kriging.threads;
       for (const auto& [key, value] : *t) {
         const std::string name = "crossval.also." + std::string(key.str());
-        if (key == "label") alt.label = r.string(value, name);
-        else if (key == "method") alt.options.method = r.named<KrigingMethod>(value, name);
-        else if (key == "drift") alt.options.drift = r.named<Drift>(value, name);
-        else if (key == "external_drift") alt.options.external_drift = resolve(r.string(value, name));
-        else if (key == "transform") alt.transform = r.named<Transform>(value, name);
-        else r.fail(value, name, "unknown key (keys of an alternative: label, method, drift, external_drift, transform)");
+        if (key == "label")
+          alt.label = r.string(value, name);
+        else if (key == "method")
+          alt.options.method = r.named<KrigingMethod>(value, name);
+        else if (key == "drift")
+          alt.options.drift = r.named<Drift>(value, name);
+        else if (key == "external_drift")
+          alt.options.external_drift = resolve(r.string(value, name));
+        else if (key == "transform")
+          alt.transform = r.named<Transform>(value, name);
+        else
+          r.fail(value, name,
+                 "unknown key (keys of an alternative: label, method, drift, external_drift, "
+                 "transform)");
       }
       if (alt.label.empty()) r.fail(item, "crossval.also", "each alternative needs a label");
       st.crossval_also.push_back(alt);
@@ -324,8 +402,7 @@ Study parse_study(const std::string& text, const std::string& path) {
   }
   if (so.path.empty())
     throw InputError("study", path + ": [samples] needs path = \"...\" (the samples file)");
-  if (so.values.empty())
-    throw InputError("study", path + ": [samples] needs value = \"COLUMN\"");
+  if (so.values.empty()) throw InputError("study", path + ": [samples] needs value = \"COLUMN\"");
   std::string why;
   if (!so.is_valid(&why)) throw InputError("study", path + ": [samples]: " + why);
   if (st.grid.cell.empty() && st.grid.like.empty())
@@ -341,42 +418,66 @@ std::string study_settings_json(const Study& st) {
   const KrigingOptions& ko = st.kriging;
   const NeighbourhoodOptions& no = st.neighbourhood;
   json j;
-  j["samples"] = {{"path", so.path}, {"layer", so.layer}, {"value", so.values}, {"x", so.x},
-                  {"y", so.y}, {"z", so.z}, {"where", so.where}, {"crs", so.crs},
-                  {"to_crs", so.to_crs}, {"below_detection", name_of(so.below_detection)},
+  j["samples"] = {{"path", so.path},
+                  {"layer", so.layer},
+                  {"value", so.values},
+                  {"x", so.x},
+                  {"y", so.y},
+                  {"z", so.z},
+                  {"where", so.where},
+                  {"crs", so.crs},
+                  {"to_crs", so.to_crs},
+                  {"below_detection", name_of(so.below_detection)},
                   {"duplicates", name_of(so.duplicates)}};
-  j["variogram"] = {{"lag", vo.lag}, {"lags", vo.lags}, {"max_distance", vo.max_distance},
-                    {"statistic", name_of(vo.statistic)}, {"azimuths", vo.azimuths},
-                    {"angle_tolerance", vo.angle_tolerance}, {"bandwidth", num(vo.bandwidth)},
-                    {"dips", vo.dips}, {"dip_tolerance", vo.dip_tolerance},
+  j["variogram"] = {{"lag", vo.lag},
+                    {"lags", vo.lags},
+                    {"max_distance", vo.max_distance},
+                    {"statistic", name_of(vo.statistic)},
+                    {"azimuths", vo.azimuths},
+                    {"angle_tolerance", vo.angle_tolerance},
+                    {"bandwidth", num(vo.bandwidth)},
+                    {"dips", vo.dips},
+                    {"dip_tolerance", vo.dip_tolerance},
                     {"vertical_bandwidth", num(vo.vertical_bandwidth)},
-                    {"estimator", name_of(vo.estimator)}, {"transform", name_of(vo.transform)},
-                    {"log_offset", vo.log_offset}, {"surface_cell", vo.surface_cell}};
+                    {"estimator", name_of(vo.estimator)},
+                    {"transform", name_of(vo.transform)},
+                    {"log_offset", vo.log_offset},
+                    {"surface_cell", vo.surface_cell}};
   const char* kinds[] = {"spec", "fit", "auto"};
-  j["model"] = {{"kind", kinds[static_cast<int>(st.model.kind)]}, {"spec", st.model.spec},
-                {"structures", st.model.structures}, {"weights", st.model.weights},
+  j["model"] = {{"kind", kinds[static_cast<int>(st.model.kind)]},
+                {"spec", st.model.spec},
+                {"structures", st.model.structures},
+                {"weights", st.model.weights},
                 {"fix", st.model.fix}};
   json also = json::array();
   for (const auto& a : st.crossval_also)
-    also.push_back({{"label", a.label}, {"method", name_of(a.options.method)},
-                    {"drift", name_of(a.options.drift)}, {"external_drift", a.options.external_drift},
+    also.push_back({{"label", a.label},
+                    {"method", name_of(a.options.method)},
+                    {"drift", name_of(a.options.drift)},
+                    {"external_drift", a.options.external_drift},
                     {"transform", a.transform ? json(name_of(*a.transform)) : json()}});
   j["crossval"] = {{"folds", st.crossval.folds}, {"skip", !st.crossval_enabled}, {"also", also}};
-  j["neighbourhood"] = {{"max_points", no.max_points}, {"min_points", no.min_points},
-                        {"radius", no.radius}, {"sectors", no.sectors},
-                        {"max_per_sector", no.max_per_sector}, {"global", no.global}};
+  j["neighbourhood"] = {
+      {"max_points", no.max_points}, {"min_points", no.min_points},         {"radius", no.radius},
+      {"sectors", no.sectors},       {"max_per_sector", no.max_per_sector}, {"global", no.global}};
   j["grid"] = {{"cell", st.grid.cell}, {"extent", st.grid.extent},
                {"like", st.grid.like}, {"mask", st.mask},
                {"blocks", st.blocks},  {"large_grid", st.grid.large_grid}};
-  j["kriging"] = {{"method", name_of(ko.method)}, {"mean", num(ko.mean)},
-                  {"drift", name_of(ko.drift)}, {"external_drift", ko.external_drift},
-                  {"block", ko.block}, {"discretise", ko.discretise},
-                  {"transform", st.kriging_transform ? json(name_of(*st.kriging_transform)) : json()},
-                  {"threshold", num(ko.threshold)},
-                  {"threads", ko.threads}};
+  j["kriging"] = {
+      {"method", name_of(ko.method)},
+      {"mean", num(ko.mean)},
+      {"drift", name_of(ko.drift)},
+      {"external_drift", ko.external_drift},
+      {"block", ko.block},
+      {"discretise", ko.discretise},
+      {"transform", st.kriging_transform ? json(name_of(*st.kriging_transform)) : json()},
+      {"threshold", num(ko.threshold)},
+      {"threads", ko.threads}};
   j["output"] = {{"dir", st.output_dir}, {"format", st.format}, {"overwrite", st.overwrite}};
-  j["report"] = {{"title", st.report.title}, {"units", st.report.units},
-                 {"density", st.report.density}, {"cutoffs", st.report.cutoffs}};
+  j["report"] = {{"title", st.report.title},
+                 {"units", st.report.units},
+                 {"density", st.report.density},
+                 {"cutoffs", st.report.cutoffs}};
   return j.dump();
 }
 

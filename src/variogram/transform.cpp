@@ -36,8 +36,8 @@ double ValueTransform::forward(double value) const {
       const auto& s = table.scores;
       if (value <= v.front()) return s.front();
       if (value >= v.back()) return s.back();
-      const auto hi = static_cast<std::size_t>(std::upper_bound(v.begin(), v.end(), value) -
-                                               v.begin());
+      const auto hi =
+          static_cast<std::size_t>(std::upper_bound(v.begin(), v.end(), value) - v.begin());
       const std::size_t lo = hi - 1;
       const double f = (value - v[lo]) / (v[hi] - v[lo]);
       return s[lo] + f * (s[hi] - s[lo]);

@@ -167,12 +167,12 @@ EmpiricalVariogram read_csv(const std::string& path) {
     }
     const std::size_t columns = v.transform_recorded ? 9 : 7;
     if (f.size() != columns)
-      throw InputError(kComponent, InputLocation{path, row_name, ""},
-                       "expected " + std::to_string(columns) + " fields, found " +
-                           std::to_string(f.size()));
+      throw InputError(
+          kComponent, InputLocation{path, row_name, ""},
+          "expected " + std::to_string(columns) + " fields, found " + std::to_string(f.size()));
     auto at = [&](std::size_t k) {
       return InputLocation{path, row_name,
-                           k < 6   ? kColumns[k]
+                           k < 6    ? kColumns[k]
                            : k == 6 ? value_column(v.options.statistic)
                                     : kTransformColumns[k - 7]};
     };
@@ -353,12 +353,12 @@ std::string variogram_to_csv(const EmpiricalVariogram& v) {
   out += value_column(v.options.statistic) + ",";
   out += std::string(kTransformColumns[0]) + "," + kTransformColumns[1] + "\n";
   const Transform kind = v.options.transform;
-  const std::string transform = std::string(name_of(kind)) + "," +
-                                (kind == Transform::log ? cell(v.options.log_offset) : "");
+  const std::string transform =
+      std::string(name_of(kind)) + "," + (kind == Transform::log ? cell(v.options.log_offset) : "");
   for (const auto& r : v.rows)
     out += cell(r.azimuth) + "," + cell(r.dip) + "," + cell(r.lag_from) + "," + cell(r.lag_to) +
-           "," + cell(r.mean_distance) + "," + std::to_string(r.pairs) + "," + cell(r.value) +
-           "," + transform + "\n";
+           "," + cell(r.mean_distance) + "," + std::to_string(r.pairs) + "," + cell(r.value) + "," +
+           transform + "\n";
   return out;
 }
 

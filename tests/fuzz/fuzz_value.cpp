@@ -41,7 +41,8 @@ extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size
       break;
     }
     case ParsedValue::Kind::below_detection:
-      if (!std::isfinite(v.value) || !(v.value > 0)) finding("a detection limit that is not positive", text);
+      if (!std::isfinite(v.value) || !(v.value > 0))
+        finding("a detection limit that is not positive", text);
       if (text.find('<') == std::string::npos) finding("a non-detect without '<'", text);
       break;
     case ParsedValue::Kind::missing:

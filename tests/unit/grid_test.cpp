@@ -98,7 +98,8 @@ TEST_CASE("a raster is written, and reads back with GDAL", "[grid]") {
     std::vector<double> rows(4 * 2);
     for (int band = 0; band < 2; ++band)
       for (int block = 0; block < 2; ++block) {  // two blocks of one row each
-        for (std::size_t i = 0; i < 4; ++i) rows[i] = band * 100 + block * 10 + static_cast<double>(i);
+        for (std::size_t i = 0; i < 4; ++i)
+          rows[i] = band * 100 + block * 10 + static_cast<double>(i);
         w.write_rows(band, block, 1, rows.data());
       }
     w.close();
@@ -117,6 +118,7 @@ TEST_CASE("a raster is written, and reads back with GDAL", "[grid]") {
   CHECK(std::string(ds->GetMetadataItem("SILLSTONE_MODEL")) == "1 nugget");
   CHECK(std::string(ds->GetSpatialRef()->GetAuthorityCode(nullptr)) == "32630");
   double v = 0;
-  CHECK(ds->GetRasterBand(2)->RasterIO(GF_Read, 3, 1, 1, 1, &v, 1, 1, GDT_Float64, 0, 0) == CE_None);
+  CHECK(ds->GetRasterBand(2)->RasterIO(GF_Read, 3, 1, 1, 1, &v, 1, 1, GDT_Float64, 0, 0) ==
+        CE_None);
   CHECK(v == 113.0);
 }

@@ -8,8 +8,8 @@
 
 #include <algorithm>
 #include <cmath>
-#include <memory>
 #include <fstream>
+#include <memory>
 #include <random>
 #include <sstream>
 
@@ -49,8 +49,8 @@ struct Dense {
   Eigen::VectorXd weights;
   double estimate, variance;
 };
-Dense dense_solve(const CovarianceModel& m, const std::vector<Point>& pts, const std::vector<double>& z,
-                  const Point& t, int drift_terms, double mean = 0) {
+Dense dense_solve(const CovarianceModel& m, const std::vector<Point>& pts,
+                  const std::vector<double>& z, const Point& t, int drift_terms, double mean = 0) {
   const auto n = static_cast<Eigen::Index>(pts.size());
   const Eigen::Index p = drift_terms;
   Eigen::MatrixXd a = Eigen::MatrixXd::Zero(n + p, n + p);
@@ -68,7 +68,9 @@ Dense dense_solve(const CovarianceModel& m, const std::vector<Point>& pts, const
   Dense d;
   d.weights = x.head(n);
   d.estimate = p == 0 ? mean : 0;
-  for (Eigen::Index i = 0; i < n; ++i) d.estimate += x(i) * (p == 0 ? z[static_cast<std::size_t>(i)] - mean : z[static_cast<std::size_t>(i)]);
+  for (Eigen::Index i = 0; i < n; ++i)
+    d.estimate +=
+        x(i) * (p == 0 ? z[static_cast<std::size_t>(i)] - mean : z[static_cast<std::size_t>(i)]);
   d.variance = m.covariance(0, 0) - x.head(n).dot(b.head(n)) - x.tail(p).dot(b.tail(p));
   return d;
 }
@@ -104,7 +106,8 @@ TEST_CASE("the ordinary kriging worked example of Isaaks & Srivastava (1989)", "
 
 TEST_CASE("simple, ordinary and universal kriging equal a dense solve", "[kriging]") {
   const auto data = test::make_synthetic(60, 5, 1000.0);
-  const CovarianceModel model = parse_model_spec("0.3 nugget + 2 spherical(range=400) + 1 gaussian(range=250)");
+  const CovarianceModel model =
+      parse_model_spec("0.3 nugget + 2 spherical(range=400) + 1 gaussian(range=250)");
   const SampleSet s = make_set(data.points, data.a);
   struct Case {
     KrigingMethod method;
@@ -147,7 +150,9 @@ TEST_CASE("ordinary kriging weights sum to one", "[kriging]") {
   const SampleSet s = make_set(data.points, data.a);
   NeighbourhoodOptions local;
   local.max_points = 16;
-  const KrigingEngine engine(s, parse_model_spec("0.2 nugget + 1 exponential(range=300, azimuth=40, ratio=0.5)"), {}, local);
+  const KrigingEngine engine(
+      s, parse_model_spec("0.2 nugget + 1 exponential(range=300, azimuth=40, ratio=0.5)"), {},
+      local);
   auto ws = engine.make_workspace();
   std::vector<std::pair<std::uint32_t, double>> w;
   for (const Point t : {Point{500, 500, 0}, Point{10, 990, 0}}) {
@@ -166,9 +171,11 @@ TEST_CASE("scaling the data scales estimates by k and variances by k^2", "[krigi
   const double k = 37.5;
   std::vector<double> scaled = data.a;
   for (auto& v : scaled) v *= k;
-  const KrigingEngine base(make_set(data.points, data.a), parse_model_spec("0.1 nugget + 2 spherical(range=350)"), {}, global());
+  const KrigingEngine base(make_set(data.points, data.a),
+                           parse_model_spec("0.1 nugget + 2 spherical(range=350)"), {}, global());
   const KrigingEngine big(make_set(data.points, scaled),
-                          parse_model_spec("140.625 nugget + 2812.5 spherical(range=350)"), {}, global());
+                          parse_model_spec("140.625 nugget + 2812.5 spherical(range=350)"), {},
+                          global());
   auto w1 = base.make_workspace();
   auto w2 = big.make_workspace();
   std::vector<std::pair<std::uint32_t, double>> l1, l2;
@@ -176,7 +183,8 @@ TEST_CASE("scaling the data scales estimates by k and variances by k^2", "[krigi
   const NodeEstimate b = big.estimate({400, 600, 0}, *w2, -1, 0, &l2);
   CHECK(b.estimate == Approx(k * a.estimate).epsilon(1e-12));
   CHECK(b.variance == Approx(k * k * a.variance).epsilon(1e-10));
-  for (std::size_t i = 0; i < l1.size(); ++i) CHECK(l2[i].second == Approx(l1[i].second).epsilon(1e-10));
+  for (std::size_t i = 0; i < l1.size(); ++i)
+    CHECK(l2[i].second == Approx(l1[i].second).epsilon(1e-10));
 }
 
 TEST_CASE("universal kriging reproduces a pure linear trend", "[kriging]") {
@@ -188,7 +196,8 @@ TEST_CASE("universal kriging reproduces a pure linear trend", "[kriging]") {
   o.drift = Drift::linear;
   NeighbourhoodOptions local;
   local.max_points = 12;
-  const KrigingEngine engine(make_set(data.points, plane), parse_model_spec("1 spherical(range=500)"), o, local);
+  const KrigingEngine engine(make_set(data.points, plane),
+                             parse_model_spec("1 spherical(range=500)"), o, local);
   auto ws = engine.make_workspace();
   for (const Point t : {Point{250, 250, 0}, Point{1500, -300, 0}}) {
     const NodeEstimate e = engine.estimate(t, *ws);
@@ -197,7 +206,8 @@ TEST_CASE("universal kriging reproduces a pure linear trend", "[kriging]") {
   }
 }
 
-TEST_CASE("block kriging: 1x1 discretisation is point kriging, variance falls with size", "[kriging]") {
+TEST_CASE("block kriging: 1x1 discretisation is point kriging, variance falls with size",
+          "[kriging]") {
   const auto data = test::make_synthetic(60, 31, 1000.0);
   const SampleSet s = make_set(data.points, data.a);
   const CovarianceModel model = parse_model_spec("0.2 nugget + 1 spherical(range=300)");
@@ -230,25 +240,29 @@ TEST_CASE("refusals: power with simple kriging, log of zero, collinear drift", "
   const auto data = test::make_synthetic(20, 2, 100.0);
   KrigingOptions simple;
   simple.method = KrigingMethod::simple;
-  CHECK_THROWS_WITH(KrigingEngine(make_set(data.points, data.a), parse_model_spec("1 power(exponent=1.5)"), simple, global()),
+  CHECK_THROWS_WITH(KrigingEngine(make_set(data.points, data.a),
+                                  parse_model_spec("1 power(exponent=1.5)"), simple, global()),
                     Catch::Contains("power model"));
   std::vector<double> with_zero = data.a;
   with_zero[3] = 0;
   KrigingOptions log;
   log.transform = ValueTransform::logarithm(0);
-  CHECK_THROWS_WITH(KrigingEngine(make_set(data.points, with_zero), parse_model_spec("1 spherical(range=50)"), log, global()),
+  CHECK_THROWS_WITH(KrigingEngine(make_set(data.points, with_zero),
+                                  parse_model_spec("1 spherical(range=50)"), log, global()),
                     Catch::Contains("line 5, column 'v'"));
   std::vector<Point> line;
   for (int i = 0; i < 10; ++i) line.push_back({i * 10.0, i * 5.0, 0});
   KrigingOptions uk;
   uk.method = KrigingMethod::universal;
-  CHECK_THROWS_WITH(KrigingEngine(make_set(line, std::vector<double>(10, 1.0)), parse_model_spec("1 spherical(range=50)"), uk, global()),
+  CHECK_THROWS_WITH(KrigingEngine(make_set(line, std::vector<double>(10, 1.0)),
+                                  parse_model_spec("1 spherical(range=50)"), uk, global()),
                     Catch::Contains("one line"));
 }
 
 TEST_CASE("the power model krigs through the generalised covariance", "[kriging]") {
   const auto data = test::make_synthetic(25, 8, 100.0);
-  const KrigingEngine engine(make_set(data.points, data.a), parse_model_spec("0.01 power(exponent=1.2)"), {}, global());
+  const KrigingEngine engine(make_set(data.points, data.a),
+                             parse_model_spec("0.01 power(exponent=1.2)"), {}, global());
   auto ws = engine.make_workspace();
   const NodeEstimate at = engine.estimate(data.points[4], *ws);
   REQUIRE(at.ok());
@@ -277,7 +291,8 @@ TEST_CASE("the lognormal ordinary-kriging back-transform is unbiased", "[kriging
   all.push_back(target);
   for (std::size_t i = 0; i <= n; ++i)
     for (std::size_t j = 0; j <= n; ++j)
-      c(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) = model.covariance(all[i].x - all[j].x, all[i].y - all[j].y);
+      c(static_cast<Eigen::Index>(i), static_cast<Eigen::Index>(j)) =
+          model.covariance(all[i].x - all[j].x, all[i].y - all[j].y);
   const Eigen::MatrixXd l = c.llt().matrixL();
   KrigingOptions o;
   o.transform = ValueTransform::logarithm(0);
@@ -345,16 +360,18 @@ TEST_CASE("kriging with a log offset back-transforms to the data's units", "[kri
 }
 
 TEST_CASE("the search ellipse follows the longest structure's anisotropy", "[kriging]") {
-  const CovarianceModel m =
-      parse_model_spec("0.1 nugget + 1 spherical(range=100) + 1 exponential(range=800, azimuth=30, ratio=0.25)");
+  const CovarianceModel m = parse_model_spec(
+      "0.1 nugget + 1 spherical(range=100) + 1 exponential(range=800, azimuth=30, ratio=0.25)");
   const auto s = search_shape(m);
   auto length = [&s](double dx, double dy) {
     const double u = s[0] * dx + s[1] * dy, v = s[3] * dx + s[4] * dy, w = s[6] * dx + s[7] * dy;
     return std::sqrt(u * u + v * v + w * w);
   };
   const double t = 30.0 * M_PI / 180.0;
-  CHECK(length(std::sin(t) * 500, std::cos(t) * 500) == Approx(500.0).epsilon(1e-12));  // major axis
-  CHECK(length(std::cos(t) * 100, -std::sin(t) * 100) == Approx(400.0).epsilon(1e-12));  // minor: / ratio
+  CHECK(length(std::sin(t) * 500, std::cos(t) * 500) ==
+        Approx(500.0).epsilon(1e-12));  // major axis
+  CHECK(length(std::cos(t) * 100, -std::sin(t) * 100) ==
+        Approx(400.0).epsilon(1e-12));  // minor: / ratio
   const auto identity = search_shape(parse_model_spec("1 nugget"));
   CHECK(identity[0] == 1.0);
   CHECK(identity[4] == 1.0);
@@ -368,8 +385,10 @@ TEST_CASE("factorisation updates along a row equal fresh factorisations", "[krig
   const SampleSet s = make_set(data.points, data.a);
   NeighbourhoodOptions local;
   local.max_points = 16;
-  const CovarianceModel model = parse_model_spec("0.2 nugget + 1 spherical(range=300) + 0.5 cubic(range=120)");
-  for (const KrigingMethod method : {KrigingMethod::simple, KrigingMethod::ordinary, KrigingMethod::universal}) {
+  const CovarianceModel model =
+      parse_model_spec("0.2 nugget + 1 spherical(range=300) + 0.5 cubic(range=120)");
+  for (const KrigingMethod method :
+       {KrigingMethod::simple, KrigingMethod::ordinary, KrigingMethod::universal}) {
     KrigingOptions o;
     o.method = method;
     if (method == KrigingMethod::simple) o.mean = 9.5;
@@ -412,7 +431,8 @@ TEST_CASE("a kriged raster is identical for 1 and 2 threads", "[kriging]") {
   for (const int threads : {1, 2}) {
     KrigingOptions o;
     o.threads = threads;
-    const KrigingEngine engine(s, parse_model_spec("0.1 nugget + 1 spherical(range=250)"), o, local);
+    const KrigingEngine engine(s, parse_model_spec("0.1 nugget + 1 spherical(range=250)"), o,
+                               local);
     RasterTarget target;
     target.path = dir.path("t" + std::to_string(threads) + ".tif");
     const KrigingSummary summary = krige_raster(engine, grid, target);
@@ -421,8 +441,8 @@ TEST_CASE("a kriged raster is identical for 1 and 2 threads", "[kriging]") {
     REQUIRE(ds);
     for (int b = 1; b <= 2; ++b) {
       std::vector<double> v(static_cast<std::size_t>(grid.nodes()));
-      REQUIRE(ds->GetRasterBand(b)->RasterIO(GF_Read, 0, 0, 133, 61, v.data(), 133, 61, GDT_Float64, 0,
-                                             0, nullptr) == CE_None);
+      REQUIRE(ds->GetRasterBand(b)->RasterIO(GF_Read, 0, 0, 133, 61, v.data(), 133, 61, GDT_Float64,
+                                             0, 0, nullptr) == CE_None);
       bands.push_back(v);
     }
   }
@@ -445,7 +465,8 @@ TEST_CASE("the condition estimate brackets the true reciprocal condition number"
     std::vector<Point> pts;
     for (std::size_t i = 0; i < n; ++i) pts.push_back({u(rng), u(rng), 0});
     // Exponential without nugget: fine; gaussian with a long range: nearly singular.
-    const CovarianceModel m = parse_model_spec(trial % 2 ? "1 gaussian(range=80)" : "1 exponential(range=40)");
+    const CovarianceModel m =
+        parse_model_spec(trial % 2 ? "1 gaussian(range=80)" : "1 exponential(range=40)");
     Eigen::MatrixXd k(static_cast<Eigen::Index>(n), static_cast<Eigen::Index>(n));
     std::vector<double> l(n * n), x(n), z(n);
     for (std::size_t j = 0; j < n; ++j)
@@ -456,7 +477,8 @@ TEST_CASE("the condition estimate brackets the true reciprocal condition number"
       }
     const double norm1 = detail::symmetric_norm1(l.data(), n, x.data());
     CHECK(norm1 == Approx(k.cwiseAbs().colwise().sum().maxCoeff()).epsilon(1e-12));
-    if (!detail::cholesky(l.data(), n, 1e-14)) continue;  // numerically singular: nothing to compare
+    if (!detail::cholesky(l.data(), n, 1e-14))
+      continue;  // numerically singular: nothing to compare
     const double estimate = detail::cholesky_rcond(l.data(), n, norm1, x.data(), z.data());
     const double exact = 1.0 / (norm1 * k.inverse().cwiseAbs().colwise().sum().maxCoeff());
     if (exact < 1e-13) continue;  // the inverse itself is then inaccurate
@@ -484,7 +506,8 @@ TEST_CASE("badly conditioned systems are nodata, never wrong numbers", "[kriging
   const NodeEstimate e = engine.estimate({3.5, 3.5, 0}, *ws);
   CHECK(e.status == NodeEstimate::Status::singular);
   bool warned = false;
-  for (const auto& w : engine.warnings()) warned = warned || w.find("gaussian structure") != std::string::npos;
+  for (const auto& w : engine.warnings())
+    warned = warned || w.find("gaussian structure") != std::string::npos;
   CHECK(warned);
   // With a nugget the same data krige normally, and no warning is given.
   const KrigingEngine fine(s, parse_model_spec("0.05 nugget + 1 gaussian(range=40)"), {}, global());
@@ -501,13 +524,15 @@ TEST_CASE("engine warnings: few samples, one line, equal values, near-duplicates
     return false;
   };
   {
-    const KrigingEngine e(make_set({{0, 0, 0}, {10, 5, 0}, {20, 10, 0}, {30, 15, 0}}, {1, 2, 2, 3}), m, {}, global());
+    const KrigingEngine e(make_set({{0, 0, 0}, {10, 5, 0}, {20, 10, 0}, {30, 15, 0}}, {1, 2, 2, 3}),
+                          m, {}, global());
     CHECK(has(e, "only 4 sample(s)"));
     CHECK(has(e, "lie on one line"));
     CHECK_FALSE(has(e, "values are equal"));
   }
   {
-    const KrigingEngine e(make_set({{0, 0, 0}, {10, 5, 0}, {3, 12, 0}}, {5, 5, 5}), m, {}, global());
+    const KrigingEngine e(make_set({{0, 0, 0}, {10, 5, 0}, {3, 12, 0}}, {5, 5, 5}), m, {},
+                          global());
     CHECK(has(e, "all 3 values are equal (5)"));
     CHECK_FALSE(has(e, "lie on one line"));
   }
@@ -525,7 +550,8 @@ TEST_CASE("engine warnings: few samples, one line, equal values, near-duplicates
     CHECK(has(e, "line 6 and line 14"));
     CHECK_FALSE(has(e, "only"));
     // A nugget makes the pair ordinary: the model no longer correlates them perfectly.
-    const KrigingEngine n(make_set(pts, z), parse_model_spec("0.1 nugget + 1 spherical(range=50)"), {}, global());
+    const KrigingEngine n(make_set(pts, z), parse_model_spec("0.1 nugget + 1 spherical(range=50)"),
+                          {}, global());
     CHECK_FALSE(has(n, "near-duplicates"));
     // With a nugget, samples at one location are still near-duplicates (a
     // sort finds them; the nearest-neighbour pass then names them).
@@ -544,10 +570,12 @@ TEST_CASE("a neighbourhood too small for the drift is refused", "[kriging]") {
   o.method = KrigingMethod::universal;
   NeighbourhoodOptions nb;
   nb.max_points = 3;
-  CHECK_THROWS_WITH(KrigingEngine(make_set(pts, {1, 2, 3, 4, 5}), parse_model_spec("1 spherical(range=50)"), o, nb),
+  CHECK_THROWS_WITH(KrigingEngine(make_set(pts, {1, 2, 3, 4, 5}),
+                                  parse_model_spec("1 spherical(range=50)"), o, nb),
                     Catch::Contains("--max-points 3 is too few"));
   nb.max_points = 4;
-  CHECK_NOTHROW(KrigingEngine(make_set(pts, {1, 2, 3, 4, 5}), parse_model_spec("1 spherical(range=50)"), o, nb));
+  CHECK_NOTHROW(KrigingEngine(make_set(pts, {1, 2, 3, 4, 5}),
+                              parse_model_spec("1 spherical(range=50)"), o, nb));
 }
 
 TEST_CASE("output size: estimates and refusals before any work", "[kriging]") {
@@ -567,22 +595,26 @@ TEST_CASE("output size: estimates and refusals before any work", "[kriging]") {
                     Catch::Contains("a raster has at most 2147483647 columns"));
   g.nx = 1'000'000;
   g.ny = 1'000'000;  // 1e12 nodes: terabytes
-  CHECK_THROWS_WITH(check_output_size(g, 2, false, dir.path("out.tif")), Catch::Contains("would need about"));
+  CHECK_THROWS_WITH(check_output_size(g, 2, false, dir.path("out.tif")),
+                    Catch::Contains("would need about"));
 }
 
 TEST_CASE("undefined figures are empty and counted, never silent", "[kriging]") {
-  const std::vector<Point> pts = {{0, 0, 0}, {10, 5, 0}, {3, 12, 0}, {20, 2, 0}, {14, 18, 0}, {7, 25, 0}};
+  const std::vector<Point> pts = {{0, 0, 0},  {10, 5, 0},  {3, 12, 0},
+                                  {20, 2, 0}, {14, 18, 0}, {7, 25, 0}};
   auto has = [](const std::vector<std::string>& lines, const std::string& text) {
     for (const auto& w : lines)
       if (w.find(text) != std::string::npos) return true;
     return false;
   };
   SECTION("cross-validation of constant values: the correlation is undefined") {
-    const CrossValidationResult cv = cross_validate(make_set(pts, {5, 5, 5, 5, 5, 5}),
-                                                    parse_model_spec("1 spherical(range=30)"), {}, global(), {});
+    const CrossValidationResult cv =
+        cross_validate(make_set(pts, {5, 5, 5, 5, 5, 5}), parse_model_spec("1 spherical(range=30)"),
+                       {}, global(), {});
     CHECK(cv.summary.estimated == 6);
     CHECK(std::isnan(cv.summary.correlation));
-    CHECK(has(cv.summary.counts.warnings, "correlation of observed and estimated values is undefined"));
+    CHECK(has(cv.summary.counts.warnings,
+              "correlation of observed and estimated values is undefined"));
     CHECK(has(cv.summary.counts.warnings, "all 6 values are equal"));
     CHECK_THAT(crossval_summary_text(cv),
                Catch::Contains("correlation observed-estimated                 nan"));
@@ -590,8 +622,8 @@ TEST_CASE("undefined figures are empty and counted, never silent", "[kriging]") 
   }
   SECTION("a block table with a power model: kriging_efficiency is empty on every row, counted") {
     test::ScratchDir dir;
-    const KrigingEngine engine(make_set(pts, {1, 2, 3, 2.5, 1.5, 3.5}), parse_model_spec("1 power(exponent=1.5)"),
-                               {}, global());
+    const KrigingEngine engine(make_set(pts, {1, 2, 3, 2.5, 1.5, 3.5}),
+                               parse_model_spec("1 power(exponent=1.5)"), {}, global());
     GridSpec g;
     g.xmin = 0;
     g.ymax = 30;
@@ -602,7 +634,8 @@ TEST_CASE("undefined figures are empty and counted, never silent", "[kriging]") 
     t.path = dir.path("blocks.csv");
     const KrigingSummary s = krige_table(engine, g, t);
     CHECK(s.estimated == 6);
-    CHECK(has(s.warnings, "6 estimated row(s) with an empty kriging_efficiency: the model has no sill"));
+    CHECK(has(s.warnings,
+              "6 estimated row(s) with an empty kriging_efficiency: the model has no sill"));
     std::ifstream f(t.path);
     std::string header, row;
     std::getline(f, header);
@@ -615,17 +648,18 @@ TEST_CASE("undefined figures are empty and counted, never silent", "[kriging]") 
     CHECK(rows == 6);
   }
   SECTION("crossval counts unestimated samples by cause, in samples not nodes") {
-    const CrossValidationResult cv = cross_validate(
-        make_set(pts, {1, 2, 3, 2.5, 1.5, 3.5}), parse_model_spec("1 spherical(range=30)"), {},
-        [] {
-          NeighbourhoodOptions n;
-          n.radius = 1;  // no neighbour within reach
-          n.min_points = 1;
-          return n;
-        }(),
-        {});
+    const CrossValidationResult cv = cross_validate(make_set(pts, {1, 2, 3, 2.5, 1.5, 3.5}),
+                                                    parse_model_spec("1 spherical(range=30)"), {},
+                                                    [] {
+                                                      NeighbourhoodOptions n;
+                                                      n.radius = 1;  // no neighbour within reach
+                                                      n.min_points = 1;
+                                                      return n;
+                                                    }(),
+                                                    {});
     CHECK(cv.summary.estimated == 0);
-    CHECK(has(cv.summary.counts.warnings, "6 sample(s) with fewer samples than --min-points in the search: left unestimated"));
+    CHECK(has(cv.summary.counts.warnings,
+              "6 sample(s) with fewer samples than --min-points in the search: left unestimated"));
     CHECK(std::isnan(cv.summary.rmse));
   }
 }

@@ -393,7 +393,8 @@ TEST_CASE("SPEC errors quote the spec and point at the column of the fault", "[m
       {"0.5 nugget + 0.5 nugget", 18, "a second nugget structure"},
       {"0 spherical(range=10)", 1, "the sills add up to 0"},
       // Each sill is finite, their sum is not: covariances would be inf - inf.
-      {"1e308 nugget + 1e308 spherical(range=1)", 1, "the sills add up to more than a double can hold"},
+      {"1e308 nugget + 1e308 spherical(range=1)", 1,
+       "the sills add up to more than a double can hold"},
       {"1 spherical(range=100", 22, "missing ')'"},
       {"1 spherical(range 100)", 19, "expected '=' after 'range'"},
       {"1 spherical(range=100 ratio=1)", 23, "expected ',' or ')'"},

@@ -95,8 +95,8 @@ TEST_CASE("the in-memory kriged grid holds what the raster file holds, cell for 
   std::int64_t nodata_cells = 0;
   for (int b = 1; b <= 3; ++b) {
     std::vector<double> v(static_cast<std::size_t>(g.nodes()));
-    REQUIRE(ds->GetRasterBand(b)->RasterIO(GF_Read, 0, 0, 10, 7, v.data(), 10, 7, GDT_Float64, 0,
-                                           0, nullptr) == CE_None);
+    REQUIRE(ds->GetRasterBand(b)->RasterIO(GF_Read, 0, 0, 10, 7, v.data(), 10, 7, GDT_Float64, 0, 0,
+                                           nullptr) == CE_None);
     const double nodata = ds->GetRasterBand(b)->GetNoDataValue();
     for (std::size_t i = 0; i < v.size(); ++i) {
       const double m = (*arrays[static_cast<std::size_t>(b - 1)])[i];
@@ -278,7 +278,8 @@ TEST_CASE("a report that fails leaves no report.html and no temporary file", "[r
   SECTION("the threshold has no probability in the kriged grid; an earlier report is kept") {
     in.kriging = &with;
     const std::string before = dir.write("report.html", "earlier report");
-    CHECK_THROWS_WITH(write_report(path, in, true), Catch::Contains("holds no exceedance probability"));
+    CHECK_THROWS_WITH(write_report(path, in, true),
+                      Catch::Contains("holds no exceedance probability"));
     CHECK(files_in(dir.path("")) == 1);
     std::ifstream f(before);
     CHECK(std::string(std::istreambuf_iterator<char>(f), {}) == "earlier report");

@@ -74,8 +74,7 @@ TEST_CASE("UTF-8 byte-order mark, CRLF and blank lines are accepted", "[samples]
 
 TEST_CASE("missing markers are skipped and counted, rows without values dropped", "[samples]") {
   ScratchDir dir;
-  const auto path =
-      dir.write("m.csv", "x,y,a,b\n0,0,1,NA\n1,0,,2\n2,0,N/A,-\n,5,1,1\n3,0,4,5\n");
+  const auto path = dir.write("m.csv", "x,y,a,b\n0,0,1,NA\n1,0,,2\n2,0,N/A,-\n,5,1,1\n3,0,4,5\n");
   const SampleSet s = load_samples(csv_options(path, {"a", "b"}));
   CHECK(s.size() == 3);
   CHECK(s.summary.dropped_no_value == 1);       // line 4: both missing
@@ -120,7 +119,8 @@ TEST_CASE("duplicate locations: average, first, error", "[samples]") {
 TEST_CASE("unknown columns, layers and empty inputs are clear errors", "[samples]") {
   ScratchDir dir;
   const auto path = dir.write("s.csv", "x,y,v\n0,0,1\n");
-  CHECK_THAT(error_of(csv_options(path, {"lead"})), Catch::Contains("column 'lead': no such column"));
+  CHECK_THAT(error_of(csv_options(path, {"lead"})),
+             Catch::Contains("column 'lead': no such column"));
   CHECK_THAT(error_of(csv_options(path, {"lead"})), Catch::Contains("the columns are: x, y, v"));
   auto o = csv_options(path);
   o.layer = "other";
@@ -213,11 +213,14 @@ TEST_CASE("option checks say what is wrong", "[samples]") {
 
 TEST_CASE("require_variation refuses a column whose values are all equal", "[samples]") {
   ScratchDir dir;
-  const SampleSet same = load_samples(csv_options(dir.write("c.csv", "x,y,v\n0,0,2\n1,0,NA\n0,1,2\n1,1,2\n")));
+  const SampleSet same =
+      load_samples(csv_options(dir.write("c.csv", "x,y,v\n0,0,2\n1,0,NA\n0,1,2\n1,1,2\n")));
   CHECK_THROWS_WITH(require_variation(same, 0, "fit"),
-                    "fit: " + dir.path("c.csv") + ", column 'v': all 3 values are equal (2): with zero "
-                    "variance there is no spatial variation to fit a model to");
-  const SampleSet varied = load_samples(csv_options(dir.write("d.csv", "x,y,v\n0,0,2\n1,0,2\n0,1,2.0000001\n")));
+                    "fit: " + dir.path("c.csv") +
+                        ", column 'v': all 3 values are equal (2): with zero "
+                        "variance there is no spatial variation to fit a model to");
+  const SampleSet varied =
+      load_samples(csv_options(dir.write("d.csv", "x,y,v\n0,0,2\n1,0,2\n0,1,2.0000001\n")));
   CHECK_NOTHROW(require_variation(varied, 0, "fit"));
 }
 

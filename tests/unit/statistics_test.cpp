@@ -40,7 +40,7 @@ TEST_CASE("pairwise-complete covariance uses the rows where both are present", "
   CHECK(m.pairs(0, 1) == 2);
   CHECK(m.covariance(0, 1) == Approx(1.0));  // rows 1-2: (1,2),(2,4): cov = 0.5*1*2 = 1
   CHECK(m.correlation(0, 1) == Approx(1.0));
-  CHECK(m.covariance(0, 0) == Approx(1.0));  // variance of 1,2,3
+  CHECK(m.covariance(0, 0) == Approx(1.0));                         // variance of 1,2,3
   CHECK(m.covariance(1, 1) == Approx(9.3333333333).epsilon(1e-9));  // variance of 2,4,8
 }
 

@@ -106,7 +106,8 @@ TEST_CASE("study file errors name the line and the key", "[study]") {
 TEST_CASE("a study is read from its text as from its file", "[study]") {
   test::ScratchDir dir;
   const std::string text =
-      "[samples]\npath = \"data/s.csv\"\nvalue = \"v\"\n[grid]\ncell = [5, 10]\n[kriging]\nthreads = 2\n";
+      "[samples]\npath = \"data/s.csv\"\nvalue = \"v\"\n[grid]\ncell = [5, 10]\n[kriging]\nthreads "
+      "= 2\n";
   const Study from_file = read_study(dir.write("site.toml", text));
   const Study from_text = parse_study(text, dir.path("site.toml"));
   CHECK(from_text.samples.path == from_file.samples.path);
@@ -122,7 +123,8 @@ TEST_CASE("a study is read from its text as from its file", "[study]") {
   }
 }
 
-TEST_CASE("whole numbers: floats without fraction pass, others and huge ones are refused", "[study]") {
+TEST_CASE("whole numbers: floats without fraction pass, others and huge ones are refused",
+          "[study]") {
   // Found by fuzz_study: a float beyond int64's range given for a whole
   // number was converted by the TOML library, which is undefined behaviour.
   const std::string head = "[samples]\npath = \"s.csv\"\nvalue = \"v\"\n[grid]\ncell = 5\n";
@@ -143,5 +145,6 @@ TEST_CASE("whole numbers: floats without fraction pass, others and huge ones are
              Catch::Contains("key 'kriging.threads': expected a whole number"));
   CHECK_THAT(error_of_text("[neighbourhood]\nmax_points = 99999999999\n"),
              Catch::Contains("key 'neighbourhood.max_points': expected a whole number between"));
-  CHECK_THAT(error_of_text("[variogram]\nlags = nan\n"), Catch::Contains("expected a whole number"));
+  CHECK_THAT(error_of_text("[variogram]\nlags = nan\n"),
+             Catch::Contains("expected a whole number"));
 }

@@ -80,7 +80,7 @@ TEST_CASE("suggested lags hold enough pairs and reach half the extent", "[summar
   const LagAdvice a = suggest_lags(data.points, 2, s.median);
   CHECK(a.lags >= 5);
   CHECK(a.lags <= 25);
-  CHECK(a.min_pairs >= 30);  // common practice, see lag_advice.cpp
+  CHECK(a.min_pairs >= 30);               // common practice, see lag_advice.cpp
   CHECK(a.max_distance <= 500.0 + 1e-9);  // about half the largest extent
   CHECK(a.max_distance > 300.0);
   CHECK(a.max_distance == Approx(a.lag * a.lags));

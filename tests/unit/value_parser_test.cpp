@@ -30,7 +30,7 @@ TEST_CASE("non-detects carry their detection limit", "[value_parser]") {
 }
 
 TEST_CASE("anything else is invalid, never guessed", "[value_parser]") {
-  for (const char* text : {"abc", "1,5", "12 mg", "inf", "-inf", "Infinity", "1e400", "0x10",
-                           "<", "<abc", "<-1", "<0", "--1", "1.2.3", "nan(1)"})
+  for (const char* text : {"abc", "1,5", "12 mg", "inf", "-inf", "Infinity", "1e400", "0x10", "<",
+                           "<abc", "<-1", "<0", "--1", "1.2.3", "nan(1)"})
     CHECK(parse_value(text).kind == Kind::invalid);
 }

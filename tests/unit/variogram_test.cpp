@@ -308,10 +308,12 @@ TEST_CASE("CSV and JSON files read back to the same rows", "[variogram]") {
   std::ifstream csv(dir.path("v.csv"));
   std::string header;
   std::getline(csv, header);
-  CHECK(header == "azimuth,dip,lag_from,lag_to,mean_distance,pairs,correlation,transform,log_offset");
+  CHECK(header ==
+        "azimuth,dip,lag_from,lag_to,mean_distance,pairs,correlation,transform,log_offset");
 }
 
-TEST_CASE("a CSV variogram records its transform, and an older table says it does not", "[variogram]") {
+TEST_CASE("a CSV variogram records its transform, and an older table says it does not",
+          "[variogram]") {
   test::ScratchDir dir;
   VariogramOptions o = lags(60, 4);
   o.transform = Transform::log;
@@ -422,16 +424,17 @@ TEST_CASE("is_variogram_table tells variogram tables from samples", "[variogram]
   test::ScratchDir dir;
   // The table's header, with or without blank lines and CRLF before it.
   CHECK(is_variogram_table(dir.write(
-      "v.csv", "\nazimuth,dip,lag_from,lag_to,mean_distance,pairs,semivariance\r\n,,0,1,0.5,3,2\r\n")));
-  CHECK(is_variogram_table(dir.write(
-      "c.txt", "azimuth,dip,lag_from,lag_to,mean_distance,pairs,covariance\n")));
+      "v.csv",
+      "\nazimuth,dip,lag_from,lag_to,mean_distance,pairs,semivariance\r\n,,0,1,0.5,3,2\r\n")));
+  CHECK(is_variogram_table(
+      dir.write("c.txt", "azimuth,dip,lag_from,lag_to,mean_distance,pairs,covariance\n")));
   CHECK_FALSE(is_variogram_table(dir.write("s.csv", "x,y,v\n0,0,1\n")));
   CHECK_FALSE(is_variogram_table(dir.write("short.csv", "azimuth,dip,lag_from\n")));
   // JSON: a top-level "rows" key, wherever it comes; GeoJSON has "type" and "features".
   CHECK(is_variogram_table(dir.write(
       "v.json", R"({"sillstone": "0.1", "settings": {"type": 1, "rows": 2}, "rows": []})")));
-  CHECK_FALSE(is_variogram_table(dir.write(
-      "s.geojson", R"({"type": "FeatureCollection", "rows": [], "features": []})")));
+  CHECK_FALSE(is_variogram_table(
+      dir.write("s.geojson", R"({"type": "FeatureCollection", "rows": [], "features": []})")));
   CHECK_FALSE(is_variogram_table(dir.write("a.json", R"([{"rows": []}])")));
   CHECK_FALSE(is_variogram_table(dir.write("broken.json", R"({"sillstone": )")));
   CHECK_FALSE(is_variogram_table(dir.path("missing.csv")));
