@@ -183,6 +183,394 @@ void refuse_leading_blank_lines(const std::string& file) {
                          "line: delete the blank line(s) above it");
 }
 
+// A samples path that is not a GDAL virtual path must be a readable,
+// non-empty file (or a .gdb folder). A FIFO or device is refused before
+// anything opens it (opening a FIFO waits for a writer).
+void check_input_path(const std::string& file) {
+  namespace fs = std::filesystem;
+  refuse_special_input(file, kComponent, "SAMPLES");
+  if (is_gdal_virtual_path(file)) return;
+  std::error_code ec;
+  const fs::file_status status = fs::status(file, ec);
+  if (!fs::exists(status)) throw InputError(kComponent, file + ": no such file");
+  if (fs::is_directory(status) && fs::path(file).extension() != ".gdb")
+    throw InputError(kComponent, file + ": is a folder, not a samples file");
+  if (fs::is_regular_file(status) && fs::file_size(file, ec) == 0)
+    throw InputError(kComponent, file + ": the file is empty");
+  refuse_leading_blank_lines(file);
+}
+
+// The source opened read-only, its layer (filtered by --where) and the
+// columns the options name.
+struct OpenLayer {
+  std::unique_ptr<GDALDataset> ds;
+  OGRLayer* layer = nullptr;
+  bool csv = false;
+  bool from_fields = false;  // coordinates from columns, not from geometries
+  int fx = -1, fy = -1, fz = -1;
+  std::vector<int> value_fields;
+};
+
+OGRLayer* pick_layer(GDALDataset& ds, const SampleOptions& options) {
+  const std::string& file = options.path;
+  if (options.layer.empty()) {
+    if (ds.GetLayerCount() < 1) throw InputError(kComponent, file + ": holds no layer");
+    return ds.GetLayer(0);
+  }
+  OGRLayer* layer = ds.GetLayerByName(options.layer.c_str());
+  if (layer) return layer;
+  std::string names;
+  for (int i = 0; i < ds.GetLayerCount(); ++i)
+    names += (i ? ", " : "") + std::string(ds.GetLayer(i)->GetName());
+  throw InputError(kComponent,
+                   file + ": no layer '" + options.layer + "'; the layers are: " + names);
+}
+
+OpenLayer open_layer(const SampleOptions& options) {
+  const std::string& file = options.path;
+  OpenLayer in;
+  in.ds.reset(GDALDataset::Open(file.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY, nullptr, nullptr,
+                                nullptr));
+  if (!in.ds)
+    throw InputError(kComponent,
+                     file + ": cannot be read as a vector data source" + gdal_message());
+  in.csv = EQUAL(in.ds->GetDriver()->GetDescription(), "CSV");
+  in.layer = pick_layer(*in.ds, options);
+  OGRFeatureDefn* defn = in.layer->GetLayerDefn();
+  for (const auto& v : options.values)
+    in.value_fields.push_back(find_field(defn, v, file, "--value"));
+  in.from_fields = !options.x.empty();
+  if (in.from_fields) {
+    in.fx = find_field(defn, options.x, file, "--x");
+    in.fy = find_field(defn, options.y, file, "--y");
+  } else if (in.layer->GetGeomType() == wkbNone) {
+    throw InputError(kComponent, file +
+                                     ": the layer has no geometry; name the coordinate "
+                                     "columns with --x and --y (columns: " +
+                                     list_fields(defn) + ")");
+  }
+  if (!options.z.empty()) in.fz = find_field(defn, options.z, file, "--z");
+  if (!options.where.empty() && in.layer->SetAttributeFilter(options.where.c_str()) != OGRERR_NONE)
+    throw InputError(kComponent, file + ": --where \"" + options.where +
+                                     "\" is not a valid attribute filter" + gdal_message());
+  return in;
+}
+
+// The CRS of the source (its own, or --crs), and the reprojection to
+// --to-crs when asked. The analysis CRS must be projected.
+struct CrsPlan {
+  std::unique_ptr<OGRSpatialReference> source, target;
+  std::unique_ptr<OGRCoordinateTransformation> transform;
+  const OGRSpatialReference* analysis() const { return target ? target.get() : source.get(); }
+};
+
+CrsPlan plan_crs(const SampleOptions& options, const OpenLayer& in) {
+  const std::string& file = options.path;
+  CrsPlan plan;
+  if (const OGRSpatialReference* s = in.from_fields ? nullptr : in.layer->GetSpatialRef()) {
+    plan.source.reset(s->Clone());
+    plan.source->SetAxisMappingStrategy(OAMS_TRADITIONAL_GIS_ORDER);
+  }
+  if (!options.crs.empty()) {
+    auto assigned = make_srs(options.crs, "--crs");
+    if (plan.source && !plan.source->IsSame(assigned.get()))
+      throw InputError(kComponent, file + ": the source already has a CRS (" +
+                                       std::string(plan.source->GetName()) +
+                                       "); --crs only assigns one to sources without a CRS, "
+                                       "use --to-crs to reproject");
+    plan.source = std::move(assigned);
+  }
+  if (!options.to_crs.empty()) {
+    if (!plan.source)
+      throw InputError(kComponent, file +
+                                       ": --to-crs needs the source's CRS; the source has "
+                                       "none, so give it with --crs");
+    plan.target = make_srs(options.to_crs, "--to-crs");
+    plan.transform.reset(OGRCreateCoordinateTransformation(plan.source.get(), plan.target.get()));
+    if (!plan.transform)
+      throw InputError(kComponent, "no coordinate transformation from " +
+                                       std::string(plan.source->GetName()) + " to " +
+                                       options.to_crs + gdal_message());
+  }
+  const OGRSpatialReference* analysis = plan.analysis();
+  if (analysis && analysis->IsGeographic())
+    throw InputError(kComponent, file + ": coordinates are in a geographic CRS (" +
+                                     std::string(analysis->GetName()) +
+                                     ", degrees); distances need a projected CRS: add "
+                                     "--to-crs EPSG:NNNN (e.g. the local UTM zone)");
+  return plan;
+}
+
+// The location of one feature; false when a coordinate is missing (the row
+// is then dropped). Throws for a geometry that is not a point.
+bool read_location(OGRFeature& feature, const OpenLayer& in, const SampleOptions& options,
+                   const std::string& row_name, Point* p) {
+  const std::string& file = options.path;
+  bool missing = false;
+  if (in.from_fields) {
+    p->x = read_coordinate(feature, in.fx, {file, row_name, options.x});
+    p->y = read_coordinate(feature, in.fy, {file, row_name, options.y});
+    missing = std::isnan(p->x) || std::isnan(p->y);
+  } else {
+    const OGRGeometry* g = feature.GetGeometryRef();
+    if (!g || g->IsEmpty()) {
+      missing = true;
+    } else {
+      const OGRPoint* pt = nullptr;
+      const auto type = wkbFlatten(g->getGeometryType());
+      if (type == wkbPoint) {
+        pt = g->toPoint();
+      } else if (type == wkbMultiPoint && g->toMultiPoint()->getNumGeometries() == 1) {
+        pt = g->toMultiPoint()->getGeometryRef(0);
+      } else {
+        throw InputError(
+            kComponent, InputLocation{file, row_name, ""},
+            std::string("the geometry is a ") + g->getGeometryName() + "; samples must be points");
+      }
+      p->x = pt->getX();
+      p->y = pt->getY();
+      if (!std::isfinite(p->x) || !std::isfinite(p->y))
+        throw InputError(kComponent, InputLocation{file, row_name, ""},
+                         "the point's coordinates are not finite");
+    }
+  }
+  if (in.fz >= 0 && !missing) {
+    p->z = read_coordinate(feature, in.fz, {file, row_name, options.z});
+    missing = std::isnan(p->z);
+  }
+  return !missing;
+}
+
+// One value cell, parsed; throws naming row and column for what is neither a
+// number, a non-detect (<DL) nor a missing marker.
+ParsedValue read_cell(OGRFeature& feature, int field, const InputLocation& where) {
+  ParsedValue pv;
+  if (!feature.IsFieldSetAndNotNull(field)) {
+    pv.kind = ParsedValue::Kind::missing;
+    return pv;
+  }
+  const OGRFieldType type = feature.GetFieldDefnRef(field)->GetType();
+  if (type == OFTReal || type == OFTInteger || type == OFTInteger64) {
+    pv.kind = ParsedValue::Kind::number;
+    pv.value = feature.GetFieldAsDouble(field);
+    if (!std::isfinite(pv.value)) throw InputError(kComponent, where, "the value is not finite");
+    return pv;
+  }
+  const std::string text = feature.GetFieldAsString(field);
+  pv = parse_value(text);
+  if (pv.kind == ParsedValue::Kind::invalid)
+    throw InputError(
+        kComponent, where,
+        "cannot read '" + text + "' as a number, a non-detect (<DL) or a missing marker");
+  return pv;
+}
+
+// The value a non-detect with limit `limit` takes under the policy.
+double substitute(BelowDetection policy, double limit) {
+  switch (policy) {
+    case BelowDetection::half:
+      return limit / 2;
+    case BelowDetection::limit:
+      return limit;
+    case BelowDetection::zero:
+      return 0;
+    case BelowDetection::drop:
+      break;
+  }
+  return std::nan("");
+}
+
+// The values of one feature into `row`, counted in `sum`; returns how many
+// are present. Every cell is checked, even on rows dropped for their
+// coordinates, so that a bad cell is never hidden.
+std::size_t read_values(OGRFeature& feature, const OpenLayer& in, const SampleOptions& options,
+                        const std::string& row_name, RawRow* row, LoadSummary* sum) {
+  const std::size_t nv = options.values.size();
+  row->values.assign(nv, std::nan(""));
+  row->censored.assign(nv, 0);
+  std::size_t present = 0;
+  for (std::size_t k = 0; k < nv; ++k) {
+    const ParsedValue pv =
+        read_cell(feature, in.value_fields[k], {options.path, row_name, options.values[k]});
+    if (pv.kind == ParsedValue::Kind::number) {
+      row->values[k] = pv.value;
+      ++present;
+    } else if (pv.kind == ParsedValue::Kind::missing) {
+      ++sum->missing[k];
+    } else if (pv.kind == ParsedValue::Kind::below_detection) {
+      ++sum->below_detection[k];
+      row->censored[k] = 1;
+      row->values[k] = substitute(options.below_detection, pv.value);
+      if (!std::isnan(row->values[k])) ++present;
+    }
+  }
+  return present;
+}
+
+// Every feature with a location and at least one value, in source order.
+std::vector<RawRow> read_rows(const SampleOptions& options, const OpenLayer& in, LoadSummary* sum) {
+  const std::string& file = options.path;
+  RowNamer namer;
+  namer.csv = in.csv;
+  if (in.csv) namer.lines = detail::csv_record_lines(file);
+  std::vector<RawRow> rows;
+  in.layer->ResetReading();
+  for (auto& feature : *in.layer) {
+    ++sum->rows_read;
+    const auto [row_name, row_number] = namer(feature->GetFID());
+    RawRow row;
+    row.id = row_name;
+    row.number = row_number;
+    const bool located = read_location(*feature, in, options, row_name, &row.p);
+    const std::size_t present = read_values(*feature, in, options, row_name, &row, sum);
+    if (!located) {
+      ++sum->dropped_no_coordinate;
+    } else if (present == 0) {
+      ++sum->dropped_no_value;
+    } else {
+      rows.push_back(std::move(row));
+    }
+  }
+  if (CPLGetLastErrorType() == CE_Failure)
+    throw InputError(kComponent, file + ": reading failed" + gdal_message());
+  if (rows.empty()) {
+    if (sum->rows_read == 0)
+      throw InputError(kComponent, file + ": holds no data rows" +
+                                       (options.where.empty() ? "" : " that pass --where"));
+    throw InputError(kComponent, file + ": none of the " + std::to_string(sum->rows_read) +
+                                     " rows has both coordinates and a value");
+  }
+  return rows;
+}
+
+void reproject(const CrsPlan& crs, const SampleOptions& options, bool three_d,
+               std::vector<RawRow>* rows) {
+  if (!crs.transform) return;
+  for (auto& r : *rows) {
+    double x = r.p.x, y = r.p.y, z = r.p.z;
+    if (!crs.transform->Transform(1, &x, &y, &z) || !std::isfinite(x) || !std::isfinite(y))
+      throw InputError(kComponent, InputLocation{options.path, r.id, ""},
+                       "the point cannot be transformed to " + options.to_crs);
+    r.p.x = x;
+    r.p.y = y;
+    if (three_d) r.p.z = z;
+  }
+}
+
+// The mean of each value over rows[order[i..j)], into the first of them.
+void average_rows(const std::vector<std::size_t>& order, std::size_t i, std::size_t j,
+                  std::vector<RawRow>* rows) {
+  RawRow& first = (*rows)[order[i]];
+  for (std::size_t v = 0; v < first.values.size(); ++v) {
+    double total = 0;
+    std::size_t n = 0, censored = 0;
+    for (std::size_t k = i; k < j; ++k) {
+      const RawRow& r = (*rows)[order[k]];
+      if (std::isnan(r.values[v])) continue;
+      total += r.values[v];
+      ++n;
+      censored += r.censored[v];
+    }
+    first.values[v] = n ? total / static_cast<double>(n) : std::nan("");
+    first.censored[v] = n > 0 && censored == n;
+  }
+}
+
+// Rows at one location are merged by the duplicate policy (or refused);
+// returns which rows are kept. The first row of a location (in source order)
+// stands for it.
+std::vector<char> merge_duplicates(const SampleOptions& options, std::vector<RawRow>* rows,
+                                   LoadSummary* sum) {
+  const std::vector<RawRow>& r = *rows;
+  std::vector<std::size_t> order(r.size());
+  std::iota(order.begin(), order.end(), 0);
+  auto key_less = [&r](std::size_t a, std::size_t b) {
+    const Point &p = r[a].p, &q = r[b].p;
+    if (p.x != q.x) return p.x < q.x;
+    if (p.y != q.y) return p.y < q.y;
+    if (p.z != q.z) return p.z < q.z;
+    return a < b;
+  };
+  auto same = [&r](std::size_t a, std::size_t b) {
+    return r[a].p.x == r[b].p.x && r[a].p.y == r[b].p.y && r[a].p.z == r[b].p.z;
+  };
+  std::sort(order.begin(), order.end(), key_less);
+  std::vector<char> keep(r.size(), 1);
+  for (std::size_t i = 0; i < order.size();) {
+    std::size_t j = i + 1;
+    while (j < order.size() && same(order[i], order[j])) ++j;
+    if (j - i > 1) {
+      ++sum->duplicate_locations;
+      sum->duplicate_rows_removed += j - i - 1;
+      // A few of the rows by name, the rest counted (a location may hold millions).
+      std::vector<std::string> ids;
+      for (std::size_t k = i; k < j && ids.size() < detail::kListedEntries; ++k)
+        ids.push_back(r[order[k]].id);
+      const std::string note = detail::capped_join(ids, j - i, " = ", "rows");
+      if (options.duplicates == DuplicatePolicy::error)
+        throw InputError(kComponent, options.path + ": several samples at one location (" + note +
+                                         "); choose --duplicates average or first");
+      if (sum->duplicate_examples.size() < detail::kListedEntries)
+        sum->duplicate_examples.push_back(note);
+      // order[i] is the lowest source index of the location, thanks to the tie-break.
+      if (options.duplicates == DuplicatePolicy::average) average_rows(order, i, j, rows);
+      for (std::size_t k = i + 1; k < j; ++k) keep[order[k]] = 0;
+    }
+    i = j;
+  }
+  return keep;
+}
+
+// The CRS the coordinates are in, or a warning that there is none.
+void record_crs(const OGRSpatialReference* srs, SampleSet* set) {
+  if (!srs) {
+    set->summary.warnings.push_back(
+        "the samples have no CRS: coordinates are taken as local "
+        "projected units and outputs will carry no CRS (give one with --crs)");
+    return;
+  }
+  char* wkt = nullptr;
+  const char* wkt_options[] = {"FORMAT=WKT2_2019", nullptr};
+  if (srs->exportToWkt(&wkt, wkt_options) == OGRERR_NONE && wkt) set->crs_wkt = wkt;
+  CPLFree(wkt);
+  set->crs_name = srs->GetName() ? srs->GetName() : "";
+  set->crs_authority = srs_authority(*srs);
+}
+
+// Warnings for what was repaired: non-detects substituted, blanks skipped,
+// rows dropped, duplicates merged.
+void add_repair_warnings(const SampleOptions& options, LoadSummary* sum) {
+  const std::string policy(name_of(options.below_detection));
+  const char* replacement = options.below_detection == BelowDetection::half    ? "DL/2"
+                            : options.below_detection == BelowDetection::limit ? "DL"
+                            : options.below_detection == BelowDetection::zero  ? "0"
+                                                                              : "nothing (dropped)";
+  for (std::size_t v = 0; v < options.values.size(); ++v) {
+    if (sum->below_detection[v])
+      sum->warnings.push_back(std::to_string(sum->below_detection[v]) + " value(s) of '" +
+                              options.values[v] + "' are below detection (<DL); replaced by " +
+                              replacement + " (--below-detection " + policy + ")");
+    if (sum->missing[v])
+      sum->warnings.push_back(std::to_string(sum->missing[v]) + " value(s) of '" +
+                              options.values[v] + "' are blank or marked missing; skipped");
+  }
+  if (sum->dropped_no_coordinate)
+    sum->warnings.push_back(std::to_string(sum->dropped_no_coordinate) +
+                            " row(s) without coordinates were dropped");
+  if (sum->dropped_no_value)
+    sum->warnings.push_back(std::to_string(sum->dropped_no_value) +
+                            " row(s) without any value were dropped");
+  if (sum->duplicate_locations) {
+    const std::string examples =
+        detail::capped_join(sum->duplicate_examples, sum->duplicate_locations, "; ", "locations");
+    sum->warnings.push_back(
+        std::to_string(sum->duplicate_locations) + " location(s) hold more than one sample (" +
+        examples + "); " +
+        (options.duplicates == DuplicatePolicy::average ? "values averaged" : "first row kept") +
+        " (--duplicates " + std::string(name_of(options.duplicates)) + ")");
+  }
+}
+
 }  // namespace
 
 bool SampleOptions::is_valid(std::string* why) const {
@@ -204,110 +592,15 @@ SampleSet load_samples(const SampleOptions& options) {
   if (!options.is_valid(&why)) throw InputError(kComponent, why);
   register_gdal_once();
   QuietGdalErrors quiet;
-
-  const std::string& file = options.path;
-  namespace fs = std::filesystem;
-  // A FIFO or device is refused before anything opens it (opening a FIFO
-  // waits for a writer); GDAL virtual paths (/vsizip/...) go to GDAL as they are.
-  refuse_special_input(file, kComponent, "SAMPLES");
-  if (!is_gdal_virtual_path(file)) {
-    std::error_code ec;
-    const fs::file_status status = fs::status(file, ec);
-    if (!fs::exists(status)) throw InputError(kComponent, file + ": no such file");
-    if (fs::is_directory(status) && fs::path(file).extension() != ".gdb")
-      throw InputError(kComponent, file + ": is a folder, not a samples file");
-    if (fs::is_regular_file(status) && fs::file_size(file, ec) == 0)
-      throw InputError(kComponent, file + ": the file is empty");
-    refuse_leading_blank_lines(file);
-  }
-
-  std::unique_ptr<GDALDataset> ds(GDALDataset::Open(file.c_str(), GDAL_OF_VECTOR | GDAL_OF_READONLY,
-                                                    nullptr, nullptr, nullptr));
-  if (!ds)
-    throw InputError(kComponent,
-                     file + ": cannot be read as a vector data source" + gdal_message());
-  const bool csv = EQUAL(ds->GetDriver()->GetDescription(), "CSV");
-
-  OGRLayer* layer = nullptr;
-  if (options.layer.empty()) {
-    if (ds->GetLayerCount() < 1) throw InputError(kComponent, file + ": holds no layer");
-    layer = ds->GetLayer(0);
-  } else {
-    layer = ds->GetLayerByName(options.layer.c_str());
-    if (!layer) {
-      std::string names;
-      for (int i = 0; i < ds->GetLayerCount(); ++i)
-        names += (i ? ", " : "") + std::string(ds->GetLayer(i)->GetName());
-      throw InputError(kComponent,
-                       file + ": no layer '" + options.layer + "'; the layers are: " + names);
-    }
-  }
-  OGRFeatureDefn* defn = layer->GetLayerDefn();
-
-  std::vector<int> value_fields;
-  for (const auto& v : options.values) value_fields.push_back(find_field(defn, v, file, "--value"));
-  const bool from_fields = !options.x.empty();
-  int fx = -1, fy = -1, fz = -1;
-  if (from_fields) {
-    fx = find_field(defn, options.x, file, "--x");
-    fy = find_field(defn, options.y, file, "--y");
-  } else if (layer->GetGeomType() == wkbNone) {
-    throw InputError(kComponent, file +
-                                     ": the layer has no geometry; name the coordinate "
-                                     "columns with --x and --y (columns: " +
-                                     list_fields(defn) + ")");
-  }
-  if (!options.z.empty()) fz = find_field(defn, options.z, file, "--z");
-
-  if (!options.where.empty() && layer->SetAttributeFilter(options.where.c_str()) != OGRERR_NONE)
-    throw InputError(kComponent, file + ": --where \"" + options.where +
-                                     "\" is not a valid attribute filter" + gdal_message());
-
-  // --- CRS ---------------------------------------------------------------------
-  std::unique_ptr<OGRSpatialReference> source_srs;
-  if (const OGRSpatialReference* s = from_fields ? nullptr : layer->GetSpatialRef()) {
-    source_srs.reset(s->Clone());
-    source_srs->SetAxisMappingStrategy(OAMS_TRADITIONAL_GIS_ORDER);
-  }
-  if (!options.crs.empty()) {
-    auto assigned = make_srs(options.crs, "--crs");
-    if (source_srs && !source_srs->IsSame(assigned.get()))
-      throw InputError(kComponent, file + ": the source already has a CRS (" +
-                                       std::string(source_srs->GetName()) +
-                                       "); --crs only assigns one to sources without a CRS, "
-                                       "use --to-crs to reproject");
-    source_srs = std::move(assigned);
-  }
-  std::unique_ptr<OGRSpatialReference> target_srs;
-  std::unique_ptr<OGRCoordinateTransformation> transform;
-  if (!options.to_crs.empty()) {
-    if (!source_srs)
-      throw InputError(kComponent, file +
-                                       ": --to-crs needs the source's CRS; the source has "
-                                       "none, so give it with --crs");
-    target_srs = make_srs(options.to_crs, "--to-crs");
-    transform.reset(OGRCreateCoordinateTransformation(source_srs.get(), target_srs.get()));
-    if (!transform)
-      throw InputError(kComponent, "no coordinate transformation from " +
-                                       std::string(source_srs->GetName()) + " to " +
-                                       options.to_crs + gdal_message());
-  }
-  const OGRSpatialReference* analysis_srs = target_srs ? target_srs.get() : source_srs.get();
-  if (analysis_srs && analysis_srs->IsGeographic())
-    throw InputError(kComponent, file + ": coordinates are in a geographic CRS (" +
-                                     std::string(analysis_srs->GetName()) +
-                                     ", degrees); distances need a projected CRS: add "
-                                     "--to-crs EPSG:NNNN (e.g. the local UTM zone)");
-
-  // --- Rows ----------------------------------------------------------------------
-  RowNamer namer;
-  namer.csv = csv;
-  if (csv) namer.lines = detail::csv_record_lines(file);
+  // GDAL virtual paths (/vsizip/...) go to GDAL as they are.
+  check_input_path(options.path);
+  const OpenLayer in = open_layer(options);
+  const CrsPlan crs = plan_crs(options, in);
 
   SampleSet set;
-  set.source = file;
-  set.layer = layer->GetName();
-  set.dimension = fz >= 0 ? 3 : 2;
+  set.source = options.path;
+  set.layer = in.layer->GetName();
+  set.dimension = in.fz >= 0 ? 3 : 2;
   for (const auto& name : options.values) set.value_names.push_back(as_utf8(name));
   set.below_detection = options.below_detection;
   set.duplicates = options.duplicates;
@@ -316,191 +609,12 @@ SampleSet load_samples(const SampleOptions& options) {
   sum.missing.assign(nv, 0);
   sum.below_detection.assign(nv, 0);
 
-  std::vector<RawRow> rows;
-  layer->ResetReading();
-  for (auto& feature : *layer) {
-    ++sum.rows_read;
-    const auto [row_name, row_number] = namer(feature->GetFID());
-    RawRow row;
-    row.id = row_name;
-    row.number = row_number;
-    bool coordinate_missing = false;
-    if (from_fields) {
-      row.p.x = read_coordinate(*feature, fx, {file, row_name, options.x});
-      row.p.y = read_coordinate(*feature, fy, {file, row_name, options.y});
-      coordinate_missing = std::isnan(row.p.x) || std::isnan(row.p.y);
-    } else {
-      const OGRGeometry* g = feature->GetGeometryRef();
-      if (!g || g->IsEmpty()) {
-        coordinate_missing = true;
-      } else {
-        const OGRPoint* pt = nullptr;
-        const auto type = wkbFlatten(g->getGeometryType());
-        if (type == wkbPoint) {
-          pt = g->toPoint();
-        } else if (type == wkbMultiPoint && g->toMultiPoint()->getNumGeometries() == 1) {
-          pt = g->toMultiPoint()->getGeometryRef(0);
-        } else {
-          throw InputError(kComponent, InputLocation{file, row_name, ""},
-                           std::string("the geometry is a ") + g->getGeometryName() +
-                               "; samples must be points");
-        }
-        row.p.x = pt->getX();
-        row.p.y = pt->getY();
-        if (!std::isfinite(row.p.x) || !std::isfinite(row.p.y))
-          throw InputError(kComponent, InputLocation{file, row_name, ""},
-                           "the point's coordinates are not finite");
-      }
-    }
-    if (fz >= 0 && !coordinate_missing) {
-      row.p.z = read_coordinate(*feature, fz, {file, row_name, options.z});
-      coordinate_missing = std::isnan(row.p.z);
-    }
-    // Values are checked even on rows dropped for their coordinates, so that
-    // a bad cell is never hidden.
-    row.values.assign(nv, std::nan(""));
-    row.censored.assign(nv, 0);
-    std::size_t present = 0;
-    for (std::size_t k = 0; k < nv; ++k) {
-      const int field = value_fields[k];
-      const InputLocation where{file, row_name, options.values[k]};
-      ParsedValue pv;
-      if (!feature->IsFieldSetAndNotNull(field)) {
-        pv.kind = ParsedValue::Kind::missing;
-      } else {
-        const OGRFieldType type = feature->GetFieldDefnRef(field)->GetType();
-        if (type == OFTReal || type == OFTInteger || type == OFTInteger64) {
-          pv.kind = ParsedValue::Kind::number;
-          pv.value = feature->GetFieldAsDouble(field);
-          if (!std::isfinite(pv.value))
-            throw InputError(kComponent, where, "the value is not finite");
-        } else {
-          const std::string text = feature->GetFieldAsString(field);
-          pv = parse_value(text);
-          if (pv.kind == ParsedValue::Kind::invalid)
-            throw InputError(
-                kComponent, where,
-                "cannot read '" + text + "' as a number, a non-detect (<DL) or a missing marker");
-        }
-      }
-      switch (pv.kind) {
-        case ParsedValue::Kind::number:
-          row.values[k] = pv.value;
-          ++present;
-          break;
-        case ParsedValue::Kind::missing:
-          ++sum.missing[k];
-          break;
-        case ParsedValue::Kind::below_detection:
-          ++sum.below_detection[k];
-          row.censored[k] = 1;
-          switch (options.below_detection) {
-            case BelowDetection::half:
-              row.values[k] = pv.value / 2;
-              break;
-            case BelowDetection::limit:
-              row.values[k] = pv.value;
-              break;
-            case BelowDetection::zero:
-              row.values[k] = 0;
-              break;
-            case BelowDetection::drop:
-              row.values[k] = std::nan("");
-              break;
-          }
-          if (!std::isnan(row.values[k])) ++present;
-          break;
-        case ParsedValue::Kind::invalid:
-          break;  // thrown above
-      }
-    }
-    if (coordinate_missing) {
-      ++sum.dropped_no_coordinate;
-      continue;
-    }
-    if (present == 0) {
-      ++sum.dropped_no_value;
-      continue;
-    }
-    rows.push_back(std::move(row));
-  }
-  if (CPLGetLastErrorType() == CE_Failure)
-    throw InputError(kComponent, file + ": reading failed" + gdal_message());
-
-  if (rows.empty()) {
-    if (sum.rows_read == 0)
-      throw InputError(kComponent, file + ": holds no data rows" +
-                                       (options.where.empty() ? "" : " that pass --where"));
-    throw InputError(kComponent, file + ": none of the " + std::to_string(sum.rows_read) +
-                                     " rows has both coordinates and a value");
-  }
-
-  if (transform) {
-    for (auto& r : rows) {
-      double x = r.p.x, y = r.p.y, z = r.p.z;
-      if (!transform->Transform(1, &x, &y, &z) || !std::isfinite(x) || !std::isfinite(y))
-        throw InputError(kComponent, InputLocation{file, r.id, ""},
-                         "the point cannot be transformed to " + options.to_crs);
-      r.p.x = x;
-      r.p.y = y;
-      if (set.dimension == 3) r.p.z = z;
-    }
-  }
+  std::vector<RawRow> rows = read_rows(options, in, &sum);
+  reproject(crs, options, set.dimension == 3, &rows);
   sum.rows_kept = rows.size();
+  const std::vector<char> keep = merge_duplicates(options, &rows, &sum);
 
-  // --- Duplicate locations ---------------------------------------------------------
-  std::vector<std::size_t> order(rows.size());
-  std::iota(order.begin(), order.end(), 0);
-  auto key_less = [&rows](std::size_t a, std::size_t b) {
-    const Point &p = rows[a].p, &q = rows[b].p;
-    if (p.x != q.x) return p.x < q.x;
-    if (p.y != q.y) return p.y < q.y;
-    if (p.z != q.z) return p.z < q.z;
-    return a < b;
-  };
-  auto same = [&rows](std::size_t a, std::size_t b) {
-    return rows[a].p.x == rows[b].p.x && rows[a].p.y == rows[b].p.y && rows[a].p.z == rows[b].p.z;
-  };
-  std::sort(order.begin(), order.end(), key_less);
-  std::vector<char> keep(rows.size(), 1);
-  for (std::size_t i = 0; i < order.size();) {
-    std::size_t j = i + 1;
-    while (j < order.size() && same(order[i], order[j])) ++j;
-    if (j - i > 1) {
-      const std::size_t first = order[i];  // lowest source index, thanks to the tie-break
-      ++sum.duplicate_locations;
-      sum.duplicate_rows_removed += j - i - 1;
-      // A few of the rows by name, the rest counted (a location may hold millions).
-      std::vector<std::string> ids;
-      for (std::size_t k = i; k < j && ids.size() < detail::kListedEntries; ++k)
-        ids.push_back(rows[order[k]].id);
-      const std::string note = detail::capped_join(ids, j - i, " = ", "rows");
-      if (options.duplicates == DuplicatePolicy::error)
-        throw InputError(kComponent, file + ": several samples at one location (" + note +
-                                         "); choose --duplicates average or first");
-      if (sum.duplicate_examples.size() < detail::kListedEntries)
-        sum.duplicate_examples.push_back(note);
-      if (options.duplicates == DuplicatePolicy::average) {
-        for (std::size_t v = 0; v < nv; ++v) {
-          double total = 0;
-          std::size_t n = 0, censored = 0;
-          for (std::size_t k = i; k < j; ++k) {
-            const double x = rows[order[k]].values[v];
-            if (std::isnan(x)) continue;
-            total += x;
-            ++n;
-            censored += rows[order[k]].censored[v];
-          }
-          rows[first].values[v] = n ? total / static_cast<double>(n) : std::nan("");
-          rows[first].censored[v] = n > 0 && censored == n;
-        }
-      }
-      for (std::size_t k = i + 1; k < j; ++k) keep[order[k]] = 0;
-    }
-    i = j;
-  }
-
-  // --- Assemble, in source order -------------------------------------------------
+  // Assembled in source order.
   set.values.assign(nv, {});
   set.censored.assign(nv, {});
   for (std::size_t i = 0; i < rows.size(); ++i) {
@@ -513,51 +627,8 @@ SampleSet load_samples(const SampleOptions& options) {
       set.censored[v].push_back(rows[i].censored[v]);
     }
   }
-
-  if (analysis_srs) {
-    char* wkt = nullptr;
-    const char* wkt_options[] = {"FORMAT=WKT2_2019", nullptr};
-    if (analysis_srs->exportToWkt(&wkt, wkt_options) == OGRERR_NONE && wkt) set.crs_wkt = wkt;
-    CPLFree(wkt);
-    set.crs_name = analysis_srs->GetName() ? analysis_srs->GetName() : "";
-    set.crs_authority = srs_authority(*analysis_srs);
-  } else {
-    sum.warnings.push_back(
-        "the samples have no CRS: coordinates are taken as local "
-        "projected units and outputs will carry no CRS (give one with --crs)");
-  }
-
-  // --- Warnings for what was repaired ----------------------------------------------
-  const std::string policy(name_of(options.below_detection));
-  for (std::size_t v = 0; v < nv; ++v) {
-    if (sum.below_detection[v])
-      sum.warnings.push_back(std::to_string(sum.below_detection[v]) + " value(s) of '" +
-                             options.values[v] + "' are below detection (<DL); replaced by " +
-                             (options.below_detection == BelowDetection::half    ? "DL/2"
-                              : options.below_detection == BelowDetection::limit ? "DL"
-                              : options.below_detection == BelowDetection::zero
-                                  ? "0"
-                                  : "nothing (dropped)") +
-                             " (--below-detection " + policy + ")");
-    if (sum.missing[v])
-      sum.warnings.push_back(std::to_string(sum.missing[v]) + " value(s) of '" + options.values[v] +
-                             "' are blank or marked missing; skipped");
-  }
-  if (sum.dropped_no_coordinate)
-    sum.warnings.push_back(std::to_string(sum.dropped_no_coordinate) +
-                           " row(s) without coordinates were dropped");
-  if (sum.dropped_no_value)
-    sum.warnings.push_back(std::to_string(sum.dropped_no_value) +
-                           " row(s) without any value were dropped");
-  if (sum.duplicate_locations) {
-    const std::string examples =
-        detail::capped_join(sum.duplicate_examples, sum.duplicate_locations, "; ", "locations");
-    sum.warnings.push_back(
-        std::to_string(sum.duplicate_locations) + " location(s) hold more than one sample (" +
-        examples + "); " +
-        (options.duplicates == DuplicatePolicy::average ? "values averaged" : "first row kept") +
-        " (--duplicates " + std::string(name_of(options.duplicates)) + ")");
-  }
+  record_crs(crs.analysis(), &set);
+  add_repair_warnings(options, &sum);
   return set;
 }
 
