@@ -123,6 +123,358 @@ class Reader {
 
 using Handler = std::function<void(const toml::node&, const std::string& key)>;
 
+// Reads a study's TOML into a Study: per section, key -> handler (keys are
+// the verbs' long options with '_' for '-'); then the alternatives of
+// [crossval] also, then the keys every study needs.
+class StudyParser {
+ public:
+  StudyParser(Study& study, const std::string& path) : st(study), r(path) {
+    add_samples();
+    add_variogram();
+    add_model();
+    add_crossval();
+    add_neighbourhood();
+    add_grid();
+    add_kriging();
+    add_output();
+    add_report();
+  }
+
+  StudyParser(const StudyParser&) = delete;  // the handlers hold `this`
+  StudyParser& operator=(const StudyParser&) = delete;
+
+  void read(const toml::table& doc) {
+    read_sections(doc);
+    read_alternatives();
+    check_required();
+  }
+
+ private:
+  Study& st;
+  const Reader r;
+  std::map<std::string, std::map<std::string, Handler>> sections_;
+  bool model_given = false;
+  const toml::node* also_node = nullptr;
+
+  std::string resolve(const std::string& p) const {
+    if (p.empty() || fs::path(p).is_absolute()) return p;
+    return (fs::path(st.folder) / p).lexically_normal().string();
+  }
+
+  void once(const toml::node& n, const std::string& k) {
+    if (model_given) r.fail(n, k, "[model] takes one of spec, fit or auto");
+    model_given = true;
+  }
+
+  void add_samples() {
+    auto& s = sections_["samples"];
+    s["path"] = [this](const toml::node& n, const std::string& k) {
+      st.samples.path = resolve(r.string(n, k));
+    };
+    s["layer"] = [this](const toml::node& n, const std::string& k) {
+      st.samples.layer = r.string(n, k);
+    };
+    s["value"] = [this](const toml::node& n, const std::string& k) {
+      st.samples.values = r.strings(n, k);
+    };
+    s["x"] = [this](const toml::node& n, const std::string& k) { st.samples.x = r.string(n, k); };
+    s["y"] = [this](const toml::node& n, const std::string& k) { st.samples.y = r.string(n, k); };
+    s["z"] = [this](const toml::node& n, const std::string& k) { st.samples.z = r.string(n, k); };
+    s["where"] = [this](const toml::node& n, const std::string& k) {
+      st.samples.where = r.string(n, k);
+    };
+    s["crs"] = [this](const toml::node& n, const std::string& k) {
+      st.samples.crs = r.string(n, k);
+    };
+    s["to_crs"] = [this](const toml::node& n, const std::string& k) {
+      st.samples.to_crs = r.string(n, k);
+    };
+    s["below_detection"] = [this](const toml::node& n, const std::string& k) {
+      st.samples.below_detection = r.named<BelowDetection>(n, k);
+    };
+    s["duplicates"] = [this](const toml::node& n, const std::string& k) {
+      st.samples.duplicates = r.named<DuplicatePolicy>(n, k);
+    };
+  }
+
+  void add_variogram() {
+    auto& v = sections_["variogram"];
+    v["lag"] = [this](const toml::node& n, const std::string& k) {
+      st.variogram.lag = r.positive(n, k);
+    };
+    v["lags"] = [this](const toml::node& n, const std::string& k) {
+      st.variogram.lags = r.integer(n, k);
+      if (st.variogram.lags < 1)
+        r.fail(n, k, "expected at least 1 (leave the key out for the suggested lags)");
+    };
+    v["max_distance"] = [this](const toml::node& n, const std::string& k) {
+      st.variogram.max_distance = r.positive(n, k);
+    };
+    v["statistic"] = [this](const toml::node& n, const std::string& k) {
+      st.variogram.statistic = r.named<VariogramStatistic>(n, k);
+    };
+    v["azimuths"] = [this](const toml::node& n, const std::string& k) {
+      st.variogram.azimuths = r.numbers(n, k);
+    };
+    v["angle_tolerance"] = [this](const toml::node& n, const std::string& k) {
+      st.variogram.angle_tolerance = r.number(n, k);
+    };
+    v["bandwidth"] = [this](const toml::node& n, const std::string& k) {
+      st.variogram.bandwidth = r.number(n, k);
+    };
+    v["dips"] = [this](const toml::node& n, const std::string& k) {
+      st.variogram.dips = r.numbers(n, k);
+    };
+    v["dip_tolerance"] = [this](const toml::node& n, const std::string& k) {
+      st.variogram.dip_tolerance = r.number(n, k);
+    };
+    v["vertical_bandwidth"] = [this](const toml::node& n, const std::string& k) {
+      st.variogram.vertical_bandwidth = r.number(n, k);
+    };
+    v["estimator"] = [this](const toml::node& n, const std::string& k) {
+      st.variogram.estimator = r.named<VariogramEstimator>(n, k);
+    };
+    v["transform"] = [this](const toml::node& n, const std::string& k) {
+      st.variogram.transform = r.named<Transform>(n, k);
+    };
+    v["log_offset"] = [this](const toml::node& n, const std::string& k) {
+      st.variogram.log_offset = r.number(n, k);
+    };
+    v["surface_cell"] = [this](const toml::node& n, const std::string& k) {
+      st.variogram.surface_cell = r.positive(n, k);
+    };
+  }
+
+  void add_model() {
+    auto& m = sections_["model"];
+    m["spec"] = [this](const toml::node& n, const std::string& k) {
+      once(n, k);
+      st.model.kind = ModelChoice::Kind::spec;
+      st.model.spec = r.string(n, k);
+      // A model.json beside the study resolves like any path.
+      if (st.model.spec.size() > 5 && st.model.spec.substr(st.model.spec.size() - 5) == ".json")
+        st.model.spec = resolve(st.model.spec);
+    };
+    m["auto"] = [this](const toml::node& n, const std::string& k) {
+      once(n, k);
+      if (!r.boolean(n, k)) r.fail(n, k, "auto = false says nothing; give spec or fit instead");
+      st.model.kind = ModelChoice::Kind::automatic;
+    };
+    m["fit"] = [this](const toml::node& n, const std::string& k) {
+      once(n, k);
+      st.model.kind = ModelChoice::Kind::fit;
+      const toml::table* t = n.as_table();
+      if (!t)
+        r.fail(n, k, "expected a table, e.g. fit = { structures = [\"nugget\", \"spherical\"] }");
+      for (const auto& [key, value] : *t) {
+        const std::string name = "fit." + std::string(key.str());
+        if (key == "structures")
+          st.model.structures = r.strings(value, name);
+        else if (key == "weights")
+          st.model.weights = r.string(value, name);
+        else if (key == "fix")
+          st.model.fix = r.strings(value, name);
+        else
+          r.fail(value, name, "unknown key (keys of fit: structures, weights, fix)");
+      }
+      if (st.model.structures.empty())
+        r.fail(n, k, "fit needs structures, e.g. [\"nugget\", \"spherical\"]");
+    };
+    m["weights"] = [this](const toml::node& n, const std::string& k) {
+      st.model.weights = r.string(n, k);
+    };
+  }
+
+  void add_crossval() {
+    auto& c = sections_["crossval"];
+    c["folds"] = [this](const toml::node& n, const std::string& k) {
+      st.crossval.folds = r.integer(n, k);
+    };
+    c["skip"] = [this](const toml::node& n, const std::string& k) {
+      st.crossval_enabled = !r.boolean(n, k);
+    };
+    // Alternatives are read after [kriging], whose options they modify.
+    c["also"] = [this](const toml::node& n, const std::string& k) {
+      if (!n.is_array())
+        r.fail(n, k,
+               "expected an array of tables, e.g. [{ label = \"ok\", method = \"ordinary\" }]");
+      also_node = &n;
+    };
+  }
+
+  void add_neighbourhood() {
+    auto& nb = sections_["neighbourhood"];
+    nb["max_points"] = [this](const toml::node& n, const std::string& k) {
+      st.neighbourhood.max_points = r.integer(n, k);
+    };
+    nb["min_points"] = [this](const toml::node& n, const std::string& k) {
+      st.neighbourhood.min_points = r.integer(n, k);
+    };
+    nb["radius"] = [this](const toml::node& n, const std::string& k) {
+      st.neighbourhood.radius = r.positive(n, k);
+    };
+    nb["sectors"] = [this](const toml::node& n, const std::string& k) {
+      st.neighbourhood.sectors = r.integer(n, k);
+    };
+    nb["max_per_sector"] = [this](const toml::node& n, const std::string& k) {
+      st.neighbourhood.max_per_sector = r.integer(n, k);
+    };
+    nb["global"] = [this](const toml::node& n, const std::string& k) {
+      st.neighbourhood.global = r.boolean(n, k);
+    };
+  }
+
+  void add_grid() {
+    auto& g = sections_["grid"];
+    g["cell"] = [this](const toml::node& n, const std::string& k) {
+      st.grid.cell = r.numbers(n, k);
+    };
+    g["extent"] = [this](const toml::node& n, const std::string& k) {
+      st.grid.extent = r.numbers(n, k);
+    };
+    g["like"] = [this](const toml::node& n, const std::string& k) {
+      st.grid.like = resolve(r.string(n, k));
+    };
+    g["mask"] = [this](const toml::node& n, const std::string& k) {
+      st.mask = resolve(r.string(n, k));
+    };
+    g["blocks"] = [this](const toml::node& n, const std::string& k) {
+      st.blocks = resolve(r.string(n, k));
+    };
+    g["large_grid"] = [this](const toml::node& n, const std::string& k) {
+      st.grid.large_grid = r.boolean(n, k);
+    };
+  }
+
+  void add_kriging() {
+    auto& kr = sections_["kriging"];
+    kr["method"] = [this](const toml::node& n, const std::string& k) {
+      st.kriging.method = r.named<KrigingMethod>(n, k);
+    };
+    kr["mean"] = [this](const toml::node& n, const std::string& k) {
+      st.kriging.mean = r.number(n, k);
+    };
+    kr["drift"] = [this](const toml::node& n, const std::string& k) {
+      st.kriging.drift = r.named<Drift>(n, k);
+    };
+    kr["external_drift"] = [this](const toml::node& n, const std::string& k) {
+      st.kriging.external_drift = resolve(r.string(n, k));
+    };
+    kr["block"] = [this](const toml::node& n, const std::string& k) {
+      st.kriging.block = r.numbers(n, k);
+    };
+    kr["discretise"] = [this](const toml::node& n, const std::string& k) {
+      st.kriging.discretise = r.integers(n, k);
+    };
+    kr["transform"] = [this](const toml::node& n, const std::string& k) {
+      st.kriging_transform = r.named<Transform>(n, k);
+    };
+    kr["threshold"] = [this](const toml::node& n, const std::string& k) {
+      st.kriging.threshold = r.number(n, k);
+    };
+    kr["threads"] = [this](const toml::node& n, const std::string& k) {
+      st.kriging.threads = r.integer(n, k);
+    };
+  }
+
+  void add_output() {
+    auto& o = sections_["output"];
+    o["dir"] = [this](const toml::node& n, const std::string& k) {
+      st.output_dir = resolve(r.string(n, k));
+    };
+    o["format"] = [this](const toml::node& n, const std::string& k) { st.format = r.string(n, k); };
+    o["overwrite"] = [this](const toml::node& n, const std::string& k) {
+      st.overwrite = r.boolean(n, k);
+    };
+  }
+
+  void add_report() {
+    auto& rp = sections_["report"];
+    rp["title"] = [this](const toml::node& n, const std::string& k) {
+      st.report.title = r.string(n, k);
+    };
+    rp["units"] = [this](const toml::node& n, const std::string& k) {
+      st.report.units = r.string(n, k);
+    };
+    rp["density"] = [this](const toml::node& n, const std::string& k) {
+      st.report.density = r.positive(n, k);
+    };
+    rp["cutoffs"] = [this](const toml::node& n, const std::string& k) {
+      st.report.cutoffs = r.numbers(n, k);
+    };
+  }
+
+  void read_sections(const toml::table& doc) {
+    for (const auto& [section, node] : doc) {
+      const std::string name(section.str());
+      const auto known = sections_.find(name);
+      if (known == sections_.end()) {
+        std::string list;
+        for (const auto& [k, unused] : sections_)
+          list += (list.empty() ? "" : ", ") + ("[" + k + "]");
+        r.fail(node, name, "unknown section (sections: " + list + ")");
+      }
+      const toml::table* table = node.as_table();
+      if (!table) r.fail(node, name, "expected a section [" + name + "]");
+      for (const auto& [key, value] : *table) {
+        const std::string k(key.str());
+        const auto h = known->second.find(k);
+        if (h == known->second.end()) {
+          std::string list;
+          for (const auto& [kk, unused] : known->second) list += (list.empty() ? "" : ", ") + kk;
+          r.fail(value, name + "." + k, "unknown key (keys of [" + name + "]: " + list + ")");
+        }
+        h->second(value, name + "." + k);
+      }
+    }
+  }
+
+  void read_alternatives() {
+    if (also_node) {
+      for (const auto& item : *also_node->as_array()) {
+        const toml::table* t = item.as_table();
+        if (!t) r.fail(item, "crossval.also", "expected a table { label = ..., method = ... }");
+        // An alternative starts from the verbs' defaults, plus only what it
+        // names (docs/run.md): nothing of the study's [kriging] is inherited
+        // but the thread count.
+        KrigingAlternative alt;
+        alt.options.threads = st.kriging.threads;
+        for (const auto& [key, value] : *t) {
+          const std::string name = "crossval.also." + std::string(key.str());
+          if (key == "label")
+            alt.label = r.string(value, name);
+          else if (key == "method")
+            alt.options.method = r.named<KrigingMethod>(value, name);
+          else if (key == "drift")
+            alt.options.drift = r.named<Drift>(value, name);
+          else if (key == "external_drift")
+            alt.options.external_drift = resolve(r.string(value, name));
+          else if (key == "transform")
+            alt.transform = r.named<Transform>(value, name);
+          else
+            r.fail(value, name,
+                   "unknown key (keys of an alternative: label, method, drift, external_drift, "
+                   "transform)");
+        }
+        if (alt.label.empty()) r.fail(item, "crossval.also", "each alternative needs a label");
+        st.crossval_also.push_back(alt);
+      }
+    }
+  }
+
+  void check_required() const {
+    const std::string& path = st.path;
+    if (st.samples.path.empty())
+      throw InputError("study", path + ": [samples] needs path = \"...\" (the samples file)");
+    if (st.samples.values.empty())
+      throw InputError("study", path + ": [samples] needs value = \"COLUMN\"");
+    std::string why;
+    if (!st.samples.is_valid(&why)) throw InputError("study", path + ": [samples]: " + why);
+    if (st.grid.cell.empty() && st.grid.like.empty())
+      throw InputError("study", path + ": [grid] needs cell = ... (or like = \"template.tif\")");
+  }
+};
+
 }  // namespace
 
 Study read_study(const std::string& path) {
@@ -150,263 +502,7 @@ Study parse_study(const std::string& text, const std::string& path) {
                      InputLocation{path, "line " + std::to_string(e.source().begin.line), ""},
                      "not valid TOML: " + std::string(e.description()));
   }
-  const Reader r(path);
-  auto resolve = [&st](const std::string& p) {
-    if (p.empty() || fs::path(p).is_absolute()) return p;
-    return (fs::path(st.folder) / p).lexically_normal().string();
-  };
-
-  // Per section: key -> handler. Keys are the verbs' long options with '_' for '-'.
-  std::map<std::string, std::map<std::string, Handler>> sections;
-  auto& s = sections["samples"];
-  SampleOptions& so = st.samples;
-  s["path"] = [&](const toml::node& n, const std::string& k) { so.path = resolve(r.string(n, k)); };
-  s["layer"] = [&](const toml::node& n, const std::string& k) { so.layer = r.string(n, k); };
-  s["value"] = [&](const toml::node& n, const std::string& k) { so.values = r.strings(n, k); };
-  s["x"] = [&](const toml::node& n, const std::string& k) { so.x = r.string(n, k); };
-  s["y"] = [&](const toml::node& n, const std::string& k) { so.y = r.string(n, k); };
-  s["z"] = [&](const toml::node& n, const std::string& k) { so.z = r.string(n, k); };
-  s["where"] = [&](const toml::node& n, const std::string& k) { so.where = r.string(n, k); };
-  s["crs"] = [&](const toml::node& n, const std::string& k) { so.crs = r.string(n, k); };
-  s["to_crs"] = [&](const toml::node& n, const std::string& k) { so.to_crs = r.string(n, k); };
-  s["below_detection"] = [&](const toml::node& n, const std::string& k) {
-    so.below_detection = r.named<BelowDetection>(n, k);
-  };
-  s["duplicates"] = [&](const toml::node& n, const std::string& k) {
-    so.duplicates = r.named<DuplicatePolicy>(n, k);
-  };
-
-  auto& v = sections["variogram"];
-  VariogramOptions& vo = st.variogram;
-  v["lag"] = [&](const toml::node& n, const std::string& k) { vo.lag = r.positive(n, k); };
-  v["lags"] = [&](const toml::node& n, const std::string& k) {
-    vo.lags = r.integer(n, k);
-    if (vo.lags < 1) r.fail(n, k, "expected at least 1 (leave the key out for the suggested lags)");
-  };
-  v["max_distance"] = [&](const toml::node& n, const std::string& k) {
-    vo.max_distance = r.positive(n, k);
-  };
-  v["statistic"] = [&](const toml::node& n, const std::string& k) {
-    vo.statistic = r.named<VariogramStatistic>(n, k);
-  };
-  v["azimuths"] = [&](const toml::node& n, const std::string& k) { vo.azimuths = r.numbers(n, k); };
-  v["angle_tolerance"] = [&](const toml::node& n, const std::string& k) {
-    vo.angle_tolerance = r.number(n, k);
-  };
-  v["bandwidth"] = [&](const toml::node& n, const std::string& k) {
-    vo.bandwidth = r.number(n, k);
-  };
-  v["dips"] = [&](const toml::node& n, const std::string& k) { vo.dips = r.numbers(n, k); };
-  v["dip_tolerance"] = [&](const toml::node& n, const std::string& k) {
-    vo.dip_tolerance = r.number(n, k);
-  };
-  v["vertical_bandwidth"] = [&](const toml::node& n, const std::string& k) {
-    vo.vertical_bandwidth = r.number(n, k);
-  };
-  v["estimator"] = [&](const toml::node& n, const std::string& k) {
-    vo.estimator = r.named<VariogramEstimator>(n, k);
-  };
-  v["transform"] = [&](const toml::node& n, const std::string& k) {
-    vo.transform = r.named<Transform>(n, k);
-  };
-  v["log_offset"] = [&](const toml::node& n, const std::string& k) {
-    vo.log_offset = r.number(n, k);
-  };
-  v["surface_cell"] = [&](const toml::node& n, const std::string& k) {
-    vo.surface_cell = r.positive(n, k);
-  };
-
-  auto& m = sections["model"];
-  ModelChoice& mc = st.model;
-  bool model_given = false;
-  auto once = [&](const toml::node& n, const std::string& k) {
-    if (model_given) r.fail(n, k, "[model] takes one of spec, fit or auto");
-    model_given = true;
-  };
-  m["spec"] = [&](const toml::node& n, const std::string& k) {
-    once(n, k);
-    mc.kind = ModelChoice::Kind::spec;
-    mc.spec = r.string(n, k);
-    // A model.json beside the study resolves like any path.
-    if (mc.spec.size() > 5 && mc.spec.substr(mc.spec.size() - 5) == ".json")
-      mc.spec = resolve(mc.spec);
-  };
-  m["auto"] = [&](const toml::node& n, const std::string& k) {
-    once(n, k);
-    if (!r.boolean(n, k)) r.fail(n, k, "auto = false says nothing; give spec or fit instead");
-    mc.kind = ModelChoice::Kind::automatic;
-  };
-  m["fit"] = [&](const toml::node& n, const std::string& k) {
-    once(n, k);
-    mc.kind = ModelChoice::Kind::fit;
-    const toml::table* t = n.as_table();
-    if (!t)
-      r.fail(n, k, "expected a table, e.g. fit = { structures = [\"nugget\", \"spherical\"] }");
-    for (const auto& [key, value] : *t) {
-      const std::string name = "fit." + std::string(key.str());
-      if (key == "structures")
-        mc.structures = r.strings(value, name);
-      else if (key == "weights")
-        mc.weights = r.string(value, name);
-      else if (key == "fix")
-        mc.fix = r.strings(value, name);
-      else
-        r.fail(value, name, "unknown key (keys of fit: structures, weights, fix)");
-    }
-    if (mc.structures.empty())
-      r.fail(n, k, "fit needs structures, e.g. [\"nugget\", \"spherical\"]");
-  };
-  m["weights"] = [&](const toml::node& n, const std::string& k) { mc.weights = r.string(n, k); };
-
-  auto& c = sections["crossval"];
-  c["folds"] = [&](const toml::node& n, const std::string& k) {
-    st.crossval.folds = r.integer(n, k);
-  };
-  c["skip"] = [&](const toml::node& n, const std::string& k) {
-    st.crossval_enabled = !r.boolean(n, k);
-  };
-  // Alternatives are read after [kriging], whose options they modify.
-  const toml::node* also_node = nullptr;
-  c["also"] = [&](const toml::node& n, const std::string& k) {
-    if (!n.is_array())
-      r.fail(n, k, "expected an array of tables, e.g. [{ label = \"ok\", method = \"ordinary\" }]");
-    also_node = &n;
-  };
-
-  auto& nb = sections["neighbourhood"];
-  NeighbourhoodOptions& no = st.neighbourhood;
-  nb["max_points"] = [&](const toml::node& n, const std::string& k) {
-    no.max_points = r.integer(n, k);
-  };
-  nb["min_points"] = [&](const toml::node& n, const std::string& k) {
-    no.min_points = r.integer(n, k);
-  };
-  nb["radius"] = [&](const toml::node& n, const std::string& k) { no.radius = r.positive(n, k); };
-  nb["sectors"] = [&](const toml::node& n, const std::string& k) { no.sectors = r.integer(n, k); };
-  nb["max_per_sector"] = [&](const toml::node& n, const std::string& k) {
-    no.max_per_sector = r.integer(n, k);
-  };
-  nb["global"] = [&](const toml::node& n, const std::string& k) { no.global = r.boolean(n, k); };
-
-  auto& g = sections["grid"];
-  g["cell"] = [&](const toml::node& n, const std::string& k) { st.grid.cell = r.numbers(n, k); };
-  g["extent"] = [&](const toml::node& n, const std::string& k) {
-    st.grid.extent = r.numbers(n, k);
-  };
-  g["like"] = [&](const toml::node& n, const std::string& k) {
-    st.grid.like = resolve(r.string(n, k));
-  };
-  g["mask"] = [&](const toml::node& n, const std::string& k) { st.mask = resolve(r.string(n, k)); };
-  g["blocks"] = [&](const toml::node& n, const std::string& k) {
-    st.blocks = resolve(r.string(n, k));
-  };
-  g["large_grid"] = [&](const toml::node& n, const std::string& k) {
-    st.grid.large_grid = r.boolean(n, k);
-  };
-
-  auto& kr = sections["kriging"];
-  KrigingOptions& ko = st.kriging;
-  kr["method"] = [&](const toml::node& n, const std::string& k) {
-    ko.method = r.named<KrigingMethod>(n, k);
-  };
-  kr["mean"] = [&](const toml::node& n, const std::string& k) { ko.mean = r.number(n, k); };
-  kr["drift"] = [&](const toml::node& n, const std::string& k) { ko.drift = r.named<Drift>(n, k); };
-  kr["external_drift"] = [&](const toml::node& n, const std::string& k) {
-    ko.external_drift = resolve(r.string(n, k));
-  };
-  kr["block"] = [&](const toml::node& n, const std::string& k) { ko.block = r.numbers(n, k); };
-  kr["discretise"] = [&](const toml::node& n, const std::string& k) {
-    ko.discretise = r.integers(n, k);
-  };
-  kr["transform"] = [&](const toml::node& n, const std::string& k) {
-    st.kriging_transform = r.named<Transform>(n, k);
-  };
-  kr["threshold"] = [&](const toml::node& n, const std::string& k) {
-    ko.threshold = r.number(n, k);
-  };
-  kr["threads"] = [&](const toml::node& n, const std::string& k) { ko.threads = r.integer(n, k); };
-
-  auto& o = sections["output"];
-  o["dir"] = [&](const toml::node& n, const std::string& k) {
-    st.output_dir = resolve(r.string(n, k));
-  };
-  o["format"] = [&](const toml::node& n, const std::string& k) { st.format = r.string(n, k); };
-  o["overwrite"] = [&](const toml::node& n, const std::string& k) {
-    st.overwrite = r.boolean(n, k);
-  };
-
-  auto& rp = sections["report"];
-  rp["title"] = [&](const toml::node& n, const std::string& k) {
-    st.report.title = r.string(n, k);
-  };
-  rp["units"] = [&](const toml::node& n, const std::string& k) {
-    st.report.units = r.string(n, k);
-  };
-  rp["density"] = [&](const toml::node& n, const std::string& k) {
-    st.report.density = r.positive(n, k);
-  };
-  rp["cutoffs"] = [&](const toml::node& n, const std::string& k) {
-    st.report.cutoffs = r.numbers(n, k);
-  };
-
-  for (const auto& [section, node] : doc) {
-    const std::string name(section.str());
-    const auto known = sections.find(name);
-    if (known == sections.end()) {
-      std::string list;
-      for (const auto& [k, unused] : sections) list += (list.empty() ? "" : ", ") + ("[" + k + "]");
-      r.fail(node, name, "unknown section (sections: " + list + ")");
-    }
-    const toml::table* table = node.as_table();
-    if (!table) r.fail(node, name, "expected a section [" + name + "]");
-    for (const auto& [key, value] : *table) {
-      const std::string k(key.str());
-      const auto h = known->second.find(k);
-      if (h == known->second.end()) {
-        std::string list;
-        for (const auto& [kk, unused] : known->second) list += (list.empty() ? "" : ", ") + kk;
-        r.fail(value, name + "." + k, "unknown key (keys of [" + name + "]: " + list + ")");
-      }
-      h->second(value, name + "." + k);
-    }
-  }
-  if (also_node) {
-    for (const auto& item : *also_node->as_array()) {
-      const toml::table* t = item.as_table();
-      if (!t) r.fail(item, "crossval.also", "expected a table { label = ..., method = ... }");
-      // An alternative starts from the verbs' defaults, plus only what it
-      // names (docs/run.md): nothing of the study's [kriging] is inherited
-      // but the thread count.
-      KrigingAlternative alt;
-      alt.options.threads = st.kriging.threads;
-      for (const auto& [key, value] : *t) {
-        const std::string name = "crossval.also." + std::string(key.str());
-        if (key == "label")
-          alt.label = r.string(value, name);
-        else if (key == "method")
-          alt.options.method = r.named<KrigingMethod>(value, name);
-        else if (key == "drift")
-          alt.options.drift = r.named<Drift>(value, name);
-        else if (key == "external_drift")
-          alt.options.external_drift = resolve(r.string(value, name));
-        else if (key == "transform")
-          alt.transform = r.named<Transform>(value, name);
-        else
-          r.fail(value, name,
-                 "unknown key (keys of an alternative: label, method, drift, external_drift, "
-                 "transform)");
-      }
-      if (alt.label.empty()) r.fail(item, "crossval.also", "each alternative needs a label");
-      st.crossval_also.push_back(alt);
-    }
-  }
-  if (so.path.empty())
-    throw InputError("study", path + ": [samples] needs path = \"...\" (the samples file)");
-  if (so.values.empty()) throw InputError("study", path + ": [samples] needs value = \"COLUMN\"");
-  std::string why;
-  if (!so.is_valid(&why)) throw InputError("study", path + ": [samples]: " + why);
-  if (st.grid.cell.empty() && st.grid.like.empty())
-    throw InputError("study", path + ": [grid] needs cell = ... (or like = \"template.tif\")");
+  StudyParser(st, path).read(doc);
   return st;
 }
 
