@@ -24,8 +24,10 @@
 #include <vector>
 
 #include "sillstone/crossval.hpp"
+#include "sillstone/fit.hpp"
 #include "sillstone/grid.hpp"
 #include "sillstone/kriging.hpp"
+#include "sillstone/kriging_sink.hpp"
 #include "sillstone/model.hpp"
 #include "sillstone/neighbourhood.hpp"
 #include "sillstone/samples.hpp"
@@ -65,6 +67,28 @@ EmpiricalVariogram variogram_stage(const SampleSet& samples, VariogramOptions op
 EmpiricalVariogram read_variogram_stage(const std::string& path,
                                         const std::optional<ValueTransform>& asked, StageLog* log);
 
+/// What the fit stage is asked: the standard candidates ranked by AIC
+/// (`automatic`), or the structures and holds of `fit`.
+struct FitStageOptions {
+  FitOptions fit;
+  bool automatic = false;
+};
+
+/// The fitted model: the best fit, the ranking of the candidates (automatic
+/// fits only), the model file written from it and the fit table as text.
+struct FitStageResult {
+  FitResult best;
+  std::vector<FitResult> ranking;
+  ModelFile file;
+  std::string table;
+};
+
+/// Stage 4: the covariance model fitted to `variogram`; its file records the
+/// variogram's transform. The fit's warnings go to the log. Throws InputError
+/// for structures or holds that cannot be fitted.
+FitStageResult fit_stage(const EmpiricalVariogram& variogram, const FitStageOptions& options,
+                         StageLog* log);
+
 /// The kriging options with the model's transform: a model that records its
 /// transform is kriged on it, and `asked` (from `--transform` or a study's
 /// [kriging] transform) must name the same kind (InputError naming both
@@ -82,6 +106,37 @@ GridSpec plan_grid(const GridOptions& options, const SampleSet& samples, const s
 std::vector<std::pair<std::string, std::string>> map_metadata(
     const SampleSet& samples, const ModelFile& model, const KrigingOptions& kriging,
     const NeighbourhoodOptions& neighbourhood);
+
+/// Where a kriged map goes and what limits it. The names of the settings are
+/// the ones the user gave them by (flags or study keys), for messages.
+struct MapOptions {
+  std::string path;        ///< the raster, or the block table
+  bool table = false;      ///< a block table (3D samples, or a .csv/.gpkg path)
+  std::string format;      ///< raster driver (empty: from the extension)
+  bool overwrite = false;  ///< replace an existing output
+  std::string mask;        ///< rasters: polygons outside which nodes are nodata
+  std::string blocks;      ///< tables: the blocks to estimate (TableTarget::blocks)
+  std::vector<std::pair<std::string, std::string>> metadata;  ///< raster metadata (map_metadata)
+  std::string component = "krige";                            ///< names the refusals
+  std::string origin;  ///< the file the settings come from (a study), named first in a refusal
+  std::string mask_name = "--mask";
+  std::string blocks_name = "--blocks";
+  std::string table_when = "a .csv or .gpkg output, or 3D samples";  ///< when a table is written
+};
+
+/// Stage 7a: the grid of a map, with every refusal made before any long
+/// work: a mask on a table, a block list on a raster, the grid itself
+/// (plan_grid), and the room its output needs on disk and in memory
+/// (`keep_in_memory`: the results are held in memory as well, e.g. for the
+/// report). Throws InputError.
+GridSpec plan_map(const GridOptions& grid, const SampleSet& samples, const MapOptions& map,
+                  double threshold, bool keep_in_memory, StageLog* log);
+
+/// Stage 7b: krigs every node of `grid` into the map's file (raster or
+/// table), and into `also` as well when given (e.g. a MemorySink for the
+/// report). The summary's warnings go to the log.
+KrigingSummary map_stage(const KrigingEngine& engine, const GridSpec& grid, const MapOptions& map,
+                         const Progress& progress, KrigingSink* also, StageLog* log);
 
 /// Stage 6a: cross-validation at the samples' own support. Samples are
 /// points, so block options (kept for the map) are dropped here, with a

@@ -32,7 +32,8 @@
 #include "sillstone/kriging.hpp"
 #include "sillstone/model.hpp"
 #include "sillstone/neighbourhood.hpp"
-#include "sillstone/report.hpp"  // ReportOptions, the [report] section
+#include "sillstone/pipeline.hpp"  // FitStageOptions
+#include "sillstone/report.hpp"    // ReportOptions, the [report] section
 #include "sillstone/samples.hpp"
 #include "sillstone/variogram.hpp"
 
@@ -103,15 +104,9 @@ struct RunResult {
 /// run; only run.json carries the time.
 RunResult run_study(const Study& study, const RunOptions& options);
 
-/// A model fitted for a study: the model file, the fit table as text, warnings.
-struct FittedModel {
-  ModelFile file;
-  std::string table;
-  std::vector<std::string> warnings;
-};
-
-/// Fits the study's model ([model] fit or auto) to its empirical variogram.
-FittedModel fit_for_study(const ModelChoice& choice, const EmpiricalVariogram& variogram);
+/// The fit stage's options of the study's [model] fit or auto. Throws
+/// InputError naming the key of a bad structure, hold or weighting.
+FitStageOptions fit_options_of(const ModelChoice& choice);
 
 /// Reads and checks a study file. Throws InputError("study", ...) naming the
 /// file, the line and the key of any fault.

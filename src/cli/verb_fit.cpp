@@ -133,24 +133,15 @@ VerbRunner add_fit(CLI::App& app) {
       v = variogram_stage(samples, vo, terminal_progress(a.output.quiet), &log);
     }
 
-    std::vector<FitResult> ranking;
-    FitResult best;
-    if (a.automatic) {
-      ranking = fit_auto(v, options);
-      best = ranking.front();
-    } else {
-      best = fit_model(v, options);
-    }
-    log.warnings_from(best.summary.warnings);
+    const FitStageResult fitted = fit_stage(v, {options, a.automatic}, &log);
     print_log(log, a.output.quiet);
 
     if (!a.output_path.empty())
-      write_text_output(a.output_path, model_to_json(fitted_model_file(best, ranking)),
-                        a.overwrite);
+      write_text_output(a.output_path, model_to_json(fitted.file), a.overwrite);
     if (a.output.json)
-      std::cout << fit_to_json(best, ranking) << "\n";
+      std::cout << fit_to_json(fitted.best, fitted.ranking) << "\n";
     else
-      write_fit_text(std::cout, best, ranking);
+      std::cout << fitted.table;
     return 0;
   };
 }

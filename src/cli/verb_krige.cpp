@@ -77,19 +77,14 @@ VerbRunner add_krige(CLI::App& app) {
     const SampleSet samples = load_stage(resolve(a->samples), &log);
     if (samples.value_names.size() > 1)
       log.note("kriging the first value column, '" + samples.value_names.front() + "'");
-    const bool table = samples.dimension == 3 || is_table(a->output);
-    if (!a->blocks.empty() && !table)
-      throw InputError("krige",
-                       "--blocks applies to block tables (a .csv or .gpkg output, or 3D "
-                       "samples), not to the raster " +
-                           a->output + "; limit a raster with --mask");
-    if (!a->mask.empty() && table)
-      throw InputError("krige",
-                       "--mask applies to rasters; a block table is limited with "
-                       "--blocks (a list of the blocks to estimate)");
-    const GridSpec grid = plan_grid(a->grid, samples, a->mask, &log);
-    const std::size_t extra = std::isnan(options.threshold) ? 0 : 1;
-    check_output_size(grid, table ? 5 + extra : 2 + extra, table, a->output);
+    MapOptions map;
+    map.path = a->output;
+    map.table = samples.dimension == 3 || is_table(a->output);
+    map.format = a->format;
+    map.overwrite = a->overwrite;
+    map.mask = a->mask;
+    map.blocks = a->blocks;
+    const GridSpec grid = plan_map(a->grid, samples, map, options.threshold, false, &log);
 
     const KrigingEngine engine(samples, model.model, options, a->neighbourhood);
     // Warnings only once every check has passed: a refused run prints one line.
@@ -97,24 +92,11 @@ VerbRunner add_krige(CLI::App& app) {
     log.notes_from(engine.notes());
     print_log(log, a->out.quiet);
 
-    const Progress progress = terminal_progress(a->out.quiet);
-    KrigingSummary summary;
-    if (table) {
-      TableTarget t;
-      t.path = a->output;
-      t.overwrite = a->overwrite;
-      t.blocks = a->blocks;
-      summary = krige_table(engine, grid, t, progress);
-    } else {
-      RasterTarget target;
-      target.path = a->output;
-      target.format = a->format;
-      target.overwrite = a->overwrite;
-      target.mask = a->mask;
-      target.metadata = map_metadata(samples, model, options, a->neighbourhood);
-      summary = krige_raster(engine, grid, target, progress);
-    }
-    print_warnings(summary.warnings);
+    if (!map.table) map.metadata = map_metadata(samples, model, options, a->neighbourhood);
+    StageLog after;
+    const KrigingSummary summary =
+        map_stage(engine, grid, map, terminal_progress(a->out.quiet), nullptr, &after);
+    print_warnings(after.warnings);
     if (a->out.json) {
       nlohmann::json j = {{"output", a->output},
                           {"nodes", summary.targets},

@@ -4,6 +4,8 @@
 #include <algorithm>
 #include <cmath>
 #include <filesystem>
+#include <memory>
+#include <sstream>
 
 #include "sillstone/error.hpp"
 #include "sillstone/format.hpp"
@@ -123,6 +125,26 @@ EmpiricalVariogram read_variogram_stage(const std::string& path,
   return v;
 }
 
+FitStageResult fit_stage(const EmpiricalVariogram& variogram, const FitStageOptions& options,
+                         StageLog* log) {
+  FitStageResult out;
+  if (options.automatic) {
+    out.ranking = fit_auto(variogram, options.fit);
+    if (out.ranking.empty()) throw InputError("fit", "no candidate model could be fitted");
+    out.best = out.ranking.front();
+  } else {
+    std::string why;
+    if (!options.fit.is_valid(&why)) throw InputError("fit", why);
+    out.best = fit_model(variogram, options.fit);
+  }
+  log->warnings_from(out.best.summary.warnings);
+  out.file = fitted_model_file(out.best, out.ranking);
+  std::ostringstream table;
+  write_fit_text(table, out.best, out.ranking);
+  out.table = table.str();
+  return out;
+}
+
 KrigingOptions kriging_stage_options(KrigingOptions options, const std::optional<Transform>& asked,
                                      const ModelFile& model, StageLog* log) {
   log->notes_from(model.notes);
@@ -175,6 +197,58 @@ std::vector<std::pair<std::string, std::string>> map_metadata(
     m.push_back({"SILLSTONE_BLOCK", b});
   }
   return m;
+}
+
+GridSpec plan_map(const GridOptions& grid_options, const SampleSet& samples, const MapOptions& map,
+                  double threshold, bool keep_in_memory, StageLog* log) {
+  const std::string from = map.origin.empty() ? "" : map.origin + ": ";
+  if (!map.blocks.empty() && !map.table)
+    throw InputError(map.component, from + map.blocks_name + " applies to block tables (" +
+                                        map.table_when + "), not to the raster " + map.path +
+                                        "; limit a raster with " + map.mask_name);
+  if (!map.mask.empty() && map.table)
+    throw InputError(map.component, from + map.mask_name +
+                                        " applies to rasters; a block table is limited with " +
+                                        map.blocks_name + " (a list of the blocks to estimate)");
+  const GridSpec grid = plan_grid(grid_options, samples, map.mask, log);
+  const bool probability = !std::isnan(threshold);
+  const std::size_t values = (map.table ? 5 : 2) + (probability ? 1 : 0);
+  check_output_size(grid, values, map.table, map.path,
+                    keep_in_memory ? KrigedGrid::bytes(grid, probability) : 0.0);
+  return grid;
+}
+
+KrigingSummary map_stage(const KrigingEngine& engine, const GridSpec& grid, const MapOptions& map,
+                         const Progress& progress, KrigingSink* also, StageLog* log) {
+  GridKrigingOptions options;
+  std::unique_ptr<KrigingSink> file;
+  if (map.table) {
+    TableTarget target;
+    target.path = map.path;
+    target.overwrite = map.overwrite;
+    target.blocks = map.blocks;
+    file = std::make_unique<TableFileSink>(target);
+    options.table_order = true;
+    options.blocks = map.blocks;
+  } else {
+    RasterTarget target;
+    target.path = map.path;
+    target.format = map.format;
+    target.overwrite = map.overwrite;
+    target.mask = map.mask;
+    target.metadata = map.metadata;
+    file = std::make_unique<RasterFileSink>(target, engine.options().threads);
+    options.mask = map.mask;
+  }
+  KrigingSummary summary;
+  if (also) {
+    TeeSink both({file.get(), also});
+    summary = krige_grid(engine, grid, options, both, progress);
+  } else {
+    summary = krige_grid(engine, grid, options, *file, progress);
+  }
+  log->warnings_from(summary.warnings);
+  return summary;
 }
 
 CrossValidationResult crossval_stage(const SampleSet& samples, const CovarianceModel& model,

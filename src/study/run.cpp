@@ -63,10 +63,6 @@ nlohmann::json cross_validation_json(
   return j;
 }
 
-}  // namespace
-
-namespace {
-
 void write_file(const std::string& path, const std::string& text) {
   std::ofstream f(path, std::ios::binary | std::ios::trunc);
   if (!f) throw std::runtime_error("cannot write " + path);
@@ -75,234 +71,275 @@ void write_file(const std::string& path, const std::string& text) {
   if (!f) throw std::runtime_error("writing " + path + " failed");
 }
 
-}  // namespace
+// One run of a study: the stages in order, each a method, sharing what the
+// earlier ones produced. Outputs are written under temporary names and
+// renamed together at the end: a run that fails or is interrupted leaves
+// the folder as it was.
+class StudyRun {
+ public:
+  StudyRun(const Study& st, const RunOptions& ro)
+      : st_(st), ro_(ro), overwrite_(ro.overwrite || st.overwrite) {}
 
-RunResult run_study(const Study& st, const RunOptions& ro) {
-  const auto stage = [&ro](const char* name) {
-    if (ro.on_stage) ro.on_stage(name);
-  };
-  const bool overwrite = ro.overwrite || st.overwrite;
-  RunResult result;
+  RunResult run() {
+    prepare();
+    summarise_data();
+    compute_variogram();
+    choose_model();
+    build_engine();
+    cross_validate_model();
+    krige_map();
+    report();
+    record();
+    // Every output is complete: rename them all into place.
+    for (std::size_t i = 0; i < staged_.size(); ++i) {
+      staged_[i]->commit();
+      result_.files.push_back(final_paths_[i]);
+    }
+    folder_->keep();
+    result_.report = out("report.html");
+    return result_;
+  }
+
+ private:
+  const Study& st_;
+  const RunOptions& ro_;
+  const bool overwrite_;
+  RunResult result_;
+  StageLog log_;
+  SampleSet samples_;
+  bool three_d_ = false;
+  std::unique_ptr<RunFolder> folder_;
+  MapOptions map_;
+  GridSpec grid_;
+  ModelFile model_;
+  FitStageOptions fit_options_;
+  std::string fit_table_;
+  DataSummary summary_;
+  EmpiricalVariogram variogram_;
+  KrigingOptions kriging_;
+  std::unique_ptr<KrigingEngine> engine_;
+  CrossValidationResult cv_;
+  std::vector<std::pair<std::string, CrossValidationSummary>> alternatives_;
+  KrigingSummary kriging_summary_;
+  KrigedGrid kriged_;
+  std::vector<std::pair<std::string, std::string>> inputs_;  // (role: path, sha256)
+  std::vector<std::unique_ptr<PendingOutput>> staged_;
+  std::vector<std::string> final_paths_;
+
+  void stage(const char* name) const {
+    if (ro_.on_stage) ro_.on_stage(name);
+  }
+  std::string out(const char* name) const { return (fs::path(result_.folder) / name).string(); }
+  std::string stage_output(const char* name) {
+    staged_.push_back(std::make_unique<PendingOutput>(out(name), overwrite_));
+    final_paths_.push_back(out(name));
+    return staged_.back()->temp_path();
+  }
 
   // Everything that can be refused is refused before any long work and
   // before anything is written: the samples, the outputs' paths, the grid
   // and its size, the model when given, the mask and the external drift.
-  stage("samples");
-  StageLog log;
-  const SampleSet samples = load_stage(st.samples, &log);
-  if (st.model.kind != ModelChoice::Kind::spec) require_variation(samples, 0, "run");
-  const bool three_d = samples.dimension == 3;
-  const std::string dir = ro.output_dir.empty() ? st.output_dir : ro.output_dir;
-  std::vector<std::string> names = {"summary.json",
-                                    "variogram.csv",
-                                    "model.json",
-                                    "crossval.csv",
-                                    three_d ? "blocks.csv" : "estimate.tif",
-                                    "report.html",
-                                    "run.json"};
-  if (!three_d) names.push_back("variogram_surface.tif");
-  RunFolder folder(dir, names, overwrite);  // checks every output name, refuses "/"
-  result.folder = folder.path();
-  const auto out = [&result](const char* name) {
-    return (fs::path(result.folder) / name).string();
-  };
-  if (!three_d) raster_driver_for(out("estimate.tif"), st.format, "-o", "[output] format");
+  void prepare() {
+    stage("samples");
+    samples_ = load_stage(st_.samples, &log_);
+    if (st_.model.kind != ModelChoice::Kind::spec) require_variation(samples_, 0, "run");
+    three_d_ = samples_.dimension == 3;
+    const std::string dir = ro_.output_dir.empty() ? st_.output_dir : ro_.output_dir;
+    std::vector<std::string> names = {"summary.json",
+                                      "variogram.csv",
+                                      "model.json",
+                                      "crossval.csv",
+                                      three_d_ ? "blocks.csv" : "estimate.tif",
+                                      "report.html",
+                                      "run.json"};
+    if (!three_d_) names.push_back("variogram_surface.tif");
+    // Checks every output name, refuses "/".
+    folder_ = std::make_unique<RunFolder>(dir, names, overwrite_);
+    result_.folder = folder_->path();
+    if (!three_d_) raster_driver_for(out("estimate.tif"), st_.format, "-o", "[output] format");
 
-  if (three_d && !st.mask.empty())
-    throw InputError("study", st.path +
-                                  ": [grid] mask applies to 2D rasters; a 3D block "
-                                  "model is limited with [grid] blocks");
-  const GridSpec grid = plan_grid(st.grid, samples, st.mask, &log);
-  const std::size_t extra = std::isnan(st.kriging.threshold) ? 0 : 1;
-  check_output_size(grid, three_d ? 5 + extra : 2 + extra, three_d,
-                    out(three_d ? "blocks.csv" : "estimate.tif"), KrigedGrid::bytes(grid, extra));
-  if (!st.kriging.external_drift.empty()) check_external_drift(st.kriging.external_drift, samples);
-  for (const auto& alt : st.crossval_also)
-    if (!alt.options.external_drift.empty())
-      check_external_drift(alt.options.external_drift, samples);
-  ModelFile model;
-  if (st.model.kind == ModelChoice::Kind::spec) model = load_model(st.model.spec);
-
-  // Outputs are written under temporary names and renamed together at the
-  // end: a run that fails or is interrupted leaves the folder as it was.
-  std::vector<std::unique_ptr<PendingOutput>> staged;
-  std::vector<std::string> final_paths;
-  auto stage_output = [&](const char* name) -> std::string {
-    staged.push_back(std::make_unique<PendingOutput>(out(name), overwrite));
-    final_paths.push_back(out(name));
-    return staged.back()->temp_path();
-  };
-
-  const DataSummary summary = summarise(samples, {});
-  log.warnings_from(summary.warnings);
-  write_file(stage_output("summary.json"), summary_to_json(summary) + "\n");
-
-  // Variogram: the study's classes, or the suggested ones (as the verb).
-  stage("variogram");
-  VariogramOptions vo = st.variogram;
-  vo.surface = !three_d;
-  vo.threads = st.kriging.threads;
-  const EmpiricalVariogram variogram = variogram_stage(samples, vo, {}, &log);
-  write_variogram(stage_output("variogram.csv"), variogram, false);
-  if (variogram.surface)
-    write_variogram_surface(stage_output("variogram_surface.tif"), variogram, false);
-
-  // Model: given, fitted or chosen; it describes the variogram's transform.
-  stage("model");
-  std::string fit_table;
-  const ValueTransform measured = transform_of(variogram);
-  if (st.model.kind == ModelChoice::Kind::spec) {
-    if (!model.transform_recorded) {  // a SPEC describes the variogram it was written for
-      model.transform = measured;
-      model.transform_recorded = true;
-      model.notes.clear();
-    } else if (!model.transform.same_as(measured)) {
-      throw InputError("study", st.model.spec + " describes " + model.transform.describe() +
-                                    " but the study's variogram is of " + measured.describe() +
-                                    ": set [variogram] transform (and log_offset) to match");
-    }
-  } else {
-    const FittedModel fitted = fit_for_study(st.model, variogram);
-    model = fitted.file;
-    fit_table = fitted.table;
-    log.warnings_from(fitted.warnings);
+    map_.path = out(three_d_ ? "blocks.csv" : "estimate.tif");
+    map_.table = three_d_;
+    map_.format = st_.format;
+    map_.overwrite = overwrite_;
+    map_.mask = st_.mask;
+    map_.blocks = st_.blocks;
+    map_.component = "study";
+    map_.origin = st_.path;
+    map_.mask_name = "[grid] mask";
+    map_.blocks_name = "[grid] blocks";
+    map_.table_when = "3D samples";
+    grid_ = plan_map(st_.grid, samples_, map_, st_.kriging.threshold, true, &log_);
+    if (!st_.kriging.external_drift.empty())
+      check_external_drift(st_.kriging.external_drift, samples_);
+    for (const auto& alt : st_.crossval_also)
+      if (!alt.options.external_drift.empty())
+        check_external_drift(alt.options.external_drift, samples_);
+    if (st_.model.kind == ModelChoice::Kind::spec)
+      model_ = load_model(st_.model.spec);
+    else
+      fit_options_ = fit_options_of(st_.model);
   }
-  write_file(stage_output("model.json"), model_to_json(model) + "\n");
 
-  const KrigingOptions ko = kriging_stage_options(st.kriging, st.kriging_transform, model, &log);
+  void summarise_data() {
+    summary_ = summarise(samples_, {});
+    log_.warnings_from(summary_.warnings);
+    write_file(stage_output("summary.json"), summary_to_json(summary_) + "\n");
+  }
+
+  // The study's classes, or the suggested ones (as the verb).
+  void compute_variogram() {
+    stage("variogram");
+    VariogramOptions vo = st_.variogram;
+    vo.surface = !three_d_;
+    vo.threads = st_.kriging.threads;
+    variogram_ = variogram_stage(samples_, vo, {}, &log_);
+    write_variogram(stage_output("variogram.csv"), variogram_, false);
+    if (variogram_.surface)
+      write_variogram_surface(stage_output("variogram_surface.tif"), variogram_, false);
+  }
+
+  // Given, fitted or chosen; the model describes the variogram's transform.
+  void choose_model() {
+    stage("model");
+    const ValueTransform measured = transform_of(variogram_);
+    if (st_.model.kind == ModelChoice::Kind::spec) {
+      if (!model_.transform_recorded) {  // a SPEC describes the variogram it was written for
+        model_.transform = measured;
+        model_.transform_recorded = true;
+        model_.notes.clear();
+      } else if (!model_.transform.same_as(measured)) {
+        throw InputError("study", st_.model.spec + " describes " + model_.transform.describe() +
+                                      " but the study's variogram is of " + measured.describe() +
+                                      ": set [variogram] transform (and log_offset) to match");
+      }
+    } else {
+      const FitStageResult fitted = fit_stage(variogram_, fit_options_, &log_);
+      model_ = fitted.file;
+      fit_table_ = fitted.table;
+    }
+    write_file(stage_output("model.json"), model_to_json(model_) + "\n");
+  }
+
   // Built before cross-validation: it refuses options that do not fit the
   // data or the model, and says what it finds doubtful in them.
-  const KrigingEngine engine(samples, model.model, ko, st.neighbourhood);
-  log.notes_from(engine.notes());
-  log.warnings_from(engine.warnings());
+  void build_engine() {
+    kriging_ = kriging_stage_options(st_.kriging, st_.kriging_transform, model_, &log_);
+    engine_ = std::make_unique<KrigingEngine>(samples_, model_.model, kriging_, st_.neighbourhood);
+    log_.notes_from(engine_->notes());
+    log_.warnings_from(engine_->warnings());
+  }
 
-  CrossValidationResult cv;
-  std::vector<std::pair<std::string, CrossValidationSummary>> alternatives;
-  if (st.crossval_enabled) {
+  void cross_validate_model() {
+    if (!st_.crossval_enabled) return;
     stage("crossval");
-    cv = crossval_stage(samples, model.model, ko, st.neighbourhood, st.crossval, &log);
-    write_file(stage_output("crossval.csv"), crossval_csv(cv, samples.dimension));
-    for (const auto& alt : st.crossval_also) {
+    cv_ = crossval_stage(samples_, model_.model, kriging_, st_.neighbourhood, st_.crossval, &log_);
+    write_file(stage_output("crossval.csv"), crossval_csv(cv_, samples_.dimension));
+    for (const auto& alt : st_.crossval_also) {
       StageLog quiet;  // an alternative's notes repeat the study's
-      const KrigingOptions o = kriging_stage_options(alt.options, alt.transform, model, &quiet);
+      const KrigingOptions o = kriging_stage_options(alt.options, alt.transform, model_, &quiet);
       const CrossValidationResult other =
-          crossval_stage(samples, model.model, o, st.neighbourhood, st.crossval, &quiet);
-      alternatives.push_back({alt.label, other.summary});
+          crossval_stage(samples_, model_.model, o, st_.neighbourhood, st_.crossval, &quiet);
+      alternatives_.push_back({alt.label, other.summary});
     }
   }
 
-  stage("kriging");
-  // The files are written and the result kept in memory for the report in one pass.
-  KrigingSummary ks;
-  MemorySink kept;
-  GridKrigingOptions gko;
-  std::unique_ptr<KrigingSink> file;
-  if (three_d) {
-    TableTarget table;
-    table.path = stage_output("blocks.csv");
-    file = std::make_unique<TableFileSink>(table);
-    gko.table_order = true;
-    gko.blocks = st.blocks;
-  } else {
-    RasterTarget target;
-    target.path = stage_output("estimate.tif");
-    target.format = st.format;
-    target.metadata = map_metadata(samples, model, ko, st.neighbourhood);
-    file = std::make_unique<RasterFileSink>(target, ko.threads);
-    gko.mask = st.mask;
+  // The file is written and the result kept in memory for the report in one pass.
+  void krige_map() {
+    stage("kriging");
+    MemorySink kept;
+    map_.path = stage_output(three_d_ ? "blocks.csv" : "estimate.tif");
+    if (!three_d_) map_.metadata = map_metadata(samples_, model_, kriging_, st_.neighbourhood);
+    kriging_summary_ = map_stage(*engine_, grid_, map_, {}, &kept, &log_);
+    kriged_ = kept.take();
+    result_.notes = log_.notes;
+    result_.warnings = log_.warnings;
   }
-  TeeSink both({file.get(), &kept});
-  ks = krige_grid(engine, grid, gko, both);
-  const KrigedGrid kriged = kept.take();
-  log.warnings_from(ks.warnings);
-  result.notes = log.notes;
-  result.warnings = log.warnings;
+
+  void report() {
+    auto input = [this](const std::string& role, const std::string& path) {
+      std::error_code ec;
+      if (!path.empty() && fs::is_regular_file(path, ec))
+        inputs_.push_back({role + ": " + path, detail::sha256_file(path)});
+    };
+    input("study", st_.path);
+    input("samples", st_.samples.path);
+    input("external drift", st_.kriging.external_drift);
+    input("mask", st_.mask);
+    input("grid template", st_.grid.like);
+    input("block list", st_.blocks);
+    if (st_.model.kind == ModelChoice::Kind::spec) input("model", st_.model.spec);
+
+    stage("report");
+    ReportInput r;
+    r.options = st_.report;
+    r.study_path = st_.path;
+    r.block_list = st_.blocks;
+    r.neighbourhood = st_.neighbourhood;
+    r.samples = &samples_;
+    r.summary = &summary_;
+    r.variogram = &variogram_;
+    r.model = &model_;
+    r.fit_table = fit_table_;
+    r.crossval = st_.crossval_enabled ? &cv_ : nullptr;
+    r.alternatives = alternatives_;
+    r.kriging = &kriging_;
+    r.grid = &grid_;
+    r.kriging_summary = &kriging_summary_;
+    r.result = &kriged_;
+    r.inputs = inputs_;
+    r.warnings = result_.warnings;
+    r.notes = result_.notes;
+    r.version = version();
+    write_file(stage_output("report.html"), render_report(r));
+  }
 
   // run.json: inputs with checksums, every setting, the version, the time.
-  std::vector<std::pair<std::string, std::string>> inputs;  // (role: path, sha256)
-  auto input = [&inputs](const std::string& role, const std::string& path) {
-    std::error_code ec;
-    if (!path.empty() && fs::is_regular_file(path, ec))
-      inputs.push_back({role + ": " + path, detail::sha256_file(path)});
-  };
-  input("study", st.path);
-  input("samples", st.samples.path);
-  input("external drift", st.kriging.external_drift);
-  input("mask", st.mask);
-  input("grid template", st.grid.like);
-  input("block list", st.blocks);
-  if (st.model.kind == ModelChoice::Kind::spec) input("model", st.model.spec);
-
-  stage("report");
-  ReportInput report;
-  report.options = st.report;
-  report.study_path = st.path;
-  report.block_list = st.blocks;
-  report.neighbourhood = st.neighbourhood;
-  report.samples = &samples;
-  report.summary = &summary;
-  report.variogram = &variogram;
-  report.model = &model;
-  report.fit_table = fit_table;
-  report.crossval = st.crossval_enabled ? &cv : nullptr;
-  report.alternatives = alternatives;
-  report.kriging = &ko;
-  report.grid = &grid;
-  report.kriging_summary = &ks;
-  report.result = &kriged;
-  report.inputs = inputs;
-  report.warnings = result.warnings;
-  report.notes = result.notes;
-  report.version = version();
-  write_file(stage_output("report.html"), render_report(report));
-
-  using nlohmann::json;
-  json input_list = json::array();
-  for (const auto& [what, sha] : inputs) {
-    const auto colon = what.find(": ");
-    input_list.push_back(
-        {{"role", what.substr(0, colon)}, {"path", what.substr(colon + 2)}, {"sha256", sha}});
+  void record() {
+    using nlohmann::json;
+    json input_list = json::array();
+    for (const auto& [what, sha] : inputs_) {
+      const auto colon = what.find(": ");
+      input_list.push_back(
+          {{"role", what.substr(0, colon)}, {"path", what.substr(colon + 2)}, {"sha256", sha}});
+    }
+    json outputs = json::array();
+    for (std::size_t i = 0; i < staged_.size(); ++i)
+      outputs.push_back({{"path", fs::path(final_paths_[i]).filename().string()},
+                         {"sha256", detail::sha256_file(staged_[i]->temp_path())}});
+    const GridSpec& g = grid_;
+    json run = {{"sillstone_version", version()},
+                {"time_utc", utc_now()},
+                {"inputs", input_list},
+                {"settings", json::parse(study_settings_json(st_))},
+                {"resolved",
+                 {{"variogram_lag", variogram_.options.lag},
+                  {"variogram_lags", variogram_.options.lags},
+                  {"variogram_max_distance", variogram_.options.max_distance},
+                  {"model", to_spec(model_.model)},
+                  {"model_transform", model_.transform.describe()},
+                  {"kriging_transform", kriging_.transform.describe()},
+                  {"crossval_support", "points"},
+                  {"grid",
+                   {{"xmin", g.xmin},
+                    {"ymax", g.ymax},
+                    {"zmin", g.zmin},
+                    {"dx", g.dx},
+                    {"dy", g.dy},
+                    {"dz", g.dz},
+                    {"nx", g.nx},
+                    {"ny", g.ny},
+                    {"nz", g.nz}}}}},
+                {"outputs", outputs},
+                {"crossval", cross_validation_json(cv_, alternatives_, st_.crossval_enabled)},
+                {"notes", result_.notes},
+                {"warnings", result_.warnings}};
+    write_file(stage_output("run.json"), run.dump(2) + "\n");
   }
-  json outputs = json::array();
-  for (std::size_t i = 0; i < staged.size(); ++i)
-    outputs.push_back({{"path", fs::path(final_paths[i]).filename().string()},
-                       {"sha256", detail::sha256_file(staged[i]->temp_path())}});
-  json run = {{"sillstone_version", version()},
-              {"time_utc", utc_now()},
-              {"inputs", input_list},
-              {"settings", json::parse(study_settings_json(st))},
-              {"resolved",
-               {{"variogram_lag", variogram.options.lag},
-                {"variogram_lags", variogram.options.lags},
-                {"variogram_max_distance", variogram.options.max_distance},
-                {"model", to_spec(model.model)},
-                {"model_transform", model.transform.describe()},
-                {"kriging_transform", ko.transform.describe()},
-                {"crossval_support", "points"},
-                {"grid",
-                 {{"xmin", grid.xmin},
-                  {"ymax", grid.ymax},
-                  {"zmin", grid.zmin},
-                  {"dx", grid.dx},
-                  {"dy", grid.dy},
-                  {"dz", grid.dz},
-                  {"nx", grid.nx},
-                  {"ny", grid.ny},
-                  {"nz", grid.nz}}}}},
-              {"outputs", outputs},
-              {"crossval", cross_validation_json(cv, alternatives, st.crossval_enabled)},
-              {"notes", result.notes},
-              {"warnings", result.warnings}};
-  write_file(stage_output("run.json"), run.dump(2) + "\n");
+};
 
-  // Every output is complete: rename them all into place.
-  for (std::size_t i = 0; i < staged.size(); ++i) {
-    staged[i]->commit();
-    result.files.push_back(final_paths[i]);
-  }
-  folder.keep();
-  result.report = out("report.html");
-  return result;
-}
+}  // namespace
+
+RunResult run_study(const Study& st, const RunOptions& ro) { return StudyRun(st, ro).run(); }
 
 }  // namespace sillstone
